@@ -1,0 +1,161 @@
+"""The ``wordkin`` command. Headless commands import no textual; data goes to stdout, progress and warnings to
+stderr. Exit codes: 0 done, 2 usage, 3 unknown word, 4 unreadable/malformed file, 1 anything else."""
+
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import sys
+from collections.abc import Sequence
+from typing import Any
+
+from index.errors import UsageError, WordkinError
+
+from .safe_text import visible
+
+
+def _shared(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--cache", metavar="DIR", help="cache directory (default: $WORDKIN_CACHE or the user cache dir)")
+    p.add_argument("--no-cache", action="store_true", help="parse the file and keep nothing on disk")
+    p.add_argument("--trust-pickle", action="store_true", help="allow loading a pickled gensim model (runs its code)")
+    p.add_argument("--debug", action="store_true", help="show a traceback on unexpected errors")
+
+
+def _save_opts(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--save", metavar="NB", help="save the query and its result to notebook NB")
+    p.add_argument("--note", metavar="TEXT", default="", help="a note to store with the saved entry")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    ap = argparse.ArgumentParser(prog="wordkin", description="Look inside word-vector sets from the terminal.")
+    sub = ap.add_subparsers(dest="cmd", required=True, metavar="COMMAND")
+
+    p = sub.add_parser("demo", help="console on the bundled demo set")
+    p.add_argument("--path", action="store_true", help="print the demo vector file's path and exit")
+    p.add_argument("--notebook", metavar="NB")
+    _shared(p)
+
+    p = sub.add_parser("open", help="console on FILE")
+    p.add_argument("file")
+    p.add_argument("--notebook", metavar="NB")
+    _shared(p)
+
+    p = sub.add_parser("prepare", help="build the cache and the index now, then print a summary")
+    p.add_argument("file")
+    p.add_argument("--trees", type=int, metavar="N", help="annoy trees (default chosen by set size)")
+    _shared(p)
+
+    p = sub.add_parser("info", help="words, dims, format, cache and index state")
+    p.add_argument("file")
+    p.add_argument("--json", action="store_true")
+    _shared(p)
+
+    p = sub.add_parser("near", help="nearest neighbours of WORD")
+    p.add_argument("file")
+    p.add_argument("word")
+    p.add_argument("-k", type=int, default=10)
+    p.add_argument("--top", type=int, metavar="N", help="only the N most frequent words may be answers")
+    p.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
+    p.add_argument("--json", action="store_true")
+    _save_opts(p)
+    _shared(p)
+
+    p = sub.add_parser("calc", help="words nearest an expression (arithmetic or a : b :: c : ?)")
+    p.add_argument("file")
+    p.add_argument("expr")
+    p.add_argument("-k", type=int, default=10)
+    p.add_argument("--method", choices=("add", "mul"), default="add")
+    p.add_argument("--top", type=int, metavar="N")
+    p.add_argument("--keep-inputs", action="store_true", help="do not exclude the expression's words")
+    p.add_argument("--exact", action="store_true")
+    p.add_argument("--json", action="store_true")
+    _save_opts(p)
+    _shared(p)
+
+    p = sub.add_parser("sim", help="pairwise cosines of a list of words, and the odd one out")
+    p.add_argument("file")
+    p.add_argument("words", nargs="+", metavar="WORD")
+    p.add_argument("--json", action="store_true")
+    _save_opts(p)
+    _shared(p)
+
+    p = sub.add_parser("score", help="score on an analogy or word-pair benchmark")
+    p.add_argument("file")
+    g = p.add_mutually_exclusive_group(required=True)
+    g.add_argument("--analogies", metavar="PATH")
+    g.add_argument("--pairs", metavar="PATH")
+    p.add_argument("--method", choices=("add", "mul"), default="add")
+    p.add_argument("--top", type=int, metavar="N", default=300_000)
+    p.add_argument("--case-fold", action="store_true")
+    p.add_argument("--json", action="store_true")
+    _shared(p)
+
+    p = sub.add_parser("export", help="export a notebook to text, Markdown, CSV or JSON")
+    p.add_argument("notebook", metavar="NB")
+    p.add_argument("--format", choices=("text", "md", "csv", "json"), default="text")
+    p.add_argument("-o", "--output", metavar="OUT")
+    p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
+    p.add_argument("--debug", action="store_true")
+
+    p = sub.add_parser("import", help="import a JSON export into a notebook")
+    p.add_argument("json_file", metavar="JSON")
+    p.add_argument("notebook", metavar="NB")
+    p.add_argument("--debug", action="store_true")
+    return ap
+
+
+def warn(msg: str) -> None:
+    print(f"wordkin: warning: {visible(msg)}", file=sys.stderr)
+
+
+def open_set(args: argparse.Namespace, path: str | None = None) -> Any:
+    from index.store import open_vectors
+
+    from .progress_bar import stderr_progress
+
+    with stderr_progress() as report:
+        vs = open_vectors(
+            path or args.file,
+            cache_root=args.cache,
+            use_cache=not args.no_cache,
+            trust_pickle=args.trust_pickle,
+            progress=report,
+        )
+    for w in vs.warnings:
+        warn(w)
+    return vs
+
+
+def emit_json(obj: dict[str, Any]) -> None:
+    sys.stdout.write(json.dumps(obj, ensure_ascii=False) + "\n")
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    ap = build_parser()
+    args = ap.parse_args(argv)
+    try:
+        from . import commands
+
+        return int(getattr(commands, "cmd_" + args.cmd)(args) or 0)
+    except UsageError as exc:
+        print(f"wordkin: {visible(exc.message)}", file=sys.stderr)
+        return exc.exit_code
+    except WordkinError as exc:
+        print(f"wordkin: {exc.title}: {visible(exc.message)}", file=sys.stderr)
+        return exc.exit_code
+    except KeyboardInterrupt:
+        print("wordkin: interrupted", file=sys.stderr)
+        return 1
+    except BrokenPipeError:
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
+    except Exception as exc:  # noqa: BLE001 - the contract: a short message, no traceback unless --debug
+        if getattr(args, "debug", False):
+            raise
+        print(f"wordkin: unexpected error: {type(exc).__name__}: {visible(str(exc))} (run with --debug)", file=sys.stderr)
+        return 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

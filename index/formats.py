@@ -1,0 +1,245 @@
+"""Detect a vector file's format by its content (never by its name) and hand it to the right reader.
+
+Formats: word2vec text with an ``N D`` header (fastText ``.vec`` is the same), headerless GloVe-style text,
+word2vec binary, any of these compressed with gzip, bz2 or xz, and a ``.npy`` matrix with a words file beside it.
+Pickled files (gensim's ``.model``/``.kv``) are refused unless the caller passes ``trust_pickle=True``.
+
+Every reader yields ``Batch`` objects of raw (not yet normalised) float32 rows, so that the store can normalise
+and write them to the cache as they come and never holds the whole file twice.
+"""
+
+from __future__ import annotations
+
+import bz2
+import gzip
+import io
+import lzma
+import os
+from collections.abc import Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import BinaryIO, Literal
+
+import numpy as np
+from numpy.typing import NDArray
+
+from .errors import PickleRefusedError, UnreadableFileError
+from .progress import ProgressFn
+
+Compression = Literal["gzip", "bz2", "xz"] | None
+Kind = Literal["word2vec-text", "glove-text", "word2vec-binary", "npy", "pickle"]
+
+#: How much decompressed text is sniffed to decide the format.
+SNIFF_BYTES = 1 << 16
+PICKLE_SUFFIXES = {".model", ".kv", ".pkl", ".pickle", ".p"}
+FASTTEXT_BIN_MAGIC = (793712314).to_bytes(4, "little")
+
+
+@dataclass
+class Batch:
+    """Rows ``first_row .. first_row + len(words) - 1`` of the file, in file order."""
+
+    words: list[str]
+    vectors: NDArray[np.float32]  # shape (len(words), dims), raw values as stored in the file
+    first_row: int
+
+
+@dataclass
+class Detected:
+    """What ``detect`` found: enough to choose a reader and to describe the file in ``info``."""
+
+    path: Path
+    kind: Kind
+    compression: Compression
+    dims: int
+    header_count: int | None  # N from an ``N D`` header, if there is one
+    trailing_space: bool = False  # text rows end with a space (word2vec C tool, fastText)
+    words_path: Path | None = None  # for .npy
+    warnings: list[str] = field(default_factory=list)
+
+    @property
+    def format_name(self) -> str:
+        return self.kind + (f"+{self.compression}" if self.compression else "")
+
+
+def _compression_of(head: bytes) -> Compression:
+    if head.startswith(b"\x1f\x8b"):
+        return "gzip"
+    if head.startswith(b"BZh"):
+        return "bz2"
+    if head.startswith(b"\xfd7zXZ\x00"):
+        return "xz"
+    return None
+
+
+def open_stream(path: Path, compression: Compression) -> tuple[BinaryIO, BinaryIO]:
+    """Open ``path`` decompressed. Returns ``(stream, raw)``; ``raw.tell()`` measures progress in file bytes."""
+    raw: BinaryIO = open(path, "rb")  # noqa: SIM115 - closed by the caller
+    if compression == "gzip":
+        return gzip.GzipFile(fileobj=raw, mode="rb"), raw  # type: ignore[return-value]
+    if compression == "bz2":
+        return bz2.BZ2File(raw, mode="rb"), raw  # type: ignore[return-value]
+    if compression == "xz":
+        return lzma.LZMAFile(raw, mode="rb"), raw  # type: ignore[return-value]
+    return raw, raw
+
+
+def read_stream_errors(path: Path, compression: Compression, exc: BaseException) -> UnreadableFileError:
+    """Turn a decompression failure into a one-line error."""
+    if isinstance(exc, EOFError):
+        return UnreadableFileError(str(path), f"the {compression} stream is cut short (file truncated?)")
+    return UnreadableFileError(str(path), f"cannot decompress ({compression}): {exc}")
+
+
+def _sniff(path: Path, compression: Compression) -> bytes:
+    stream, raw = open_stream(path, compression)
+    try:
+        return stream.read(SNIFF_BYTES)
+    except (EOFError, OSError, lzma.LZMAError) as exc:
+        raise read_stream_errors(path, compression, exc) from None
+    finally:
+        stream.close()
+        raw.close()
+
+
+def _is_int(tok: bytes) -> bool:
+    return tok.isdigit()
+
+
+def _looks_like_floats(tokens: list[bytes]) -> bool:
+    try:
+        for t in tokens:
+            float(t)
+    except ValueError:
+        return False
+    return True
+
+
+def _words_file_for(npy: Path) -> Path | None:
+    stem = npy.name[: -len(".npy")]
+    for name in (stem + ".words.txt", stem + ".words", stem + ".vocab", stem + ".txt"):
+        cand = npy.with_name(name)
+        if cand.is_file():
+            return cand
+    return None
+
+
+def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detected:
+    """Decide the format of ``path`` from its bytes. Raises ``UnreadableFileError`` with a reason."""
+    p = Path(path)
+    if not p.exists():
+        raise UnreadableFileError(str(p), "no such file")
+    if p.is_dir():
+        raise UnreadableFileError(str(p), "is a directory, not a vector file")
+    try:
+        with open(p, "rb") as f:
+            head = f.read(16)
+    except OSError as exc:
+        raise UnreadableFileError(str(p), f"cannot read: {exc.strerror or exc}") from None
+    if not head:
+        raise UnreadableFileError(str(p), "the file is empty", line=1)
+
+    is_pickle = (head[:1] == b"\x80" and 2 <= head[1] <= 5) or p.suffix.lower() in PICKLE_SUFFIXES
+    if is_pickle:
+        if not trust_pickle:
+            raise PickleRefusedError(
+                str(p),
+                "looks like a pickled (gensim .model/.kv) file; loading a pickle runs code from the file, "
+                "so it is refused unless you pass --trust-pickle (or convert it to word2vec format)",
+            )
+        return Detected(p, "pickle", None, 0, None)
+    if head.startswith(FASTTEXT_BIN_MAGIC):
+        raise UnreadableFileError(
+            str(p), "is a fastText .bin model; open its .vec file (word2vec text) instead"
+        )
+    if head.startswith(b"\x93NUMPY"):
+        words = _words_file_for(p) if p.name.endswith(".npy") else None
+        if words is None:
+            raise UnreadableFileError(
+                str(p), "a .npy matrix needs its words beside it (NAME.words.txt, one word per line)"
+            )
+        try:
+            arr = np.load(p, mmap_mode="r", allow_pickle=False)
+        except ValueError as exc:
+            raise UnreadableFileError(str(p), f"not a plain numeric .npy matrix ({exc})") from None
+        if arr.ndim != 2 or arr.dtype.kind not in "fiu":
+            raise UnreadableFileError(str(p), f"expected a 2-D numeric matrix, found {arr.dtype} {arr.shape}")
+        return Detected(p, "npy", None, int(arr.shape[1]), int(arr.shape[0]), words_path=words)
+    if head.startswith(b"PK\x03\x04"):
+        raise UnreadableFileError(str(p), "is a zip archive (.npz?); unpack it first")
+
+    compression = _compression_of(head)
+    sample = _sniff(p, compression)
+    if not sample.strip():
+        raise UnreadableFileError(str(p), "contains no vectors (only whitespace)", line=1)
+    lines = sample.split(b"\n", 2)
+    first = lines[0].rstrip(b"\r")
+    tokens = first.split()
+    second = lines[1].rstrip(b"\r") if len(lines) > 1 else b""
+    if len(tokens) == 2 and all(_is_int(t) for t in tokens):
+        count, dims = int(tokens[0]), int(tokens[1])
+        if dims == 0:
+            raise UnreadableFileError(str(p), "the header says 0 dimensions", line=1)
+        if not second.strip() and len(lines) <= 2 and b"\n" not in sample[len(first) :].lstrip(b"\r\n"):
+            raise UnreadableFileError(str(p), f"a header ({count} {dims}) but no vectors", line=2)
+        sec_tokens = second.split()
+        if len(sec_tokens) == dims + 1 and _looks_like_floats(sec_tokens[1:]):
+            return Detected(p, "word2vec-text", compression, dims, count, trailing_space=second.endswith(b" "))
+        if len(sec_tokens) == 2 and _looks_like_floats(sec_tokens[1:]) and dims != 1:
+            # Two integers then rows of one value: the "header" was a one-dimensional row of a headerless file.
+            return Detected(p, "glove-text", compression, 1, None, trailing_space=first.endswith(b" "))
+        if len(sec_tokens) >= 2 and _looks_like_floats(sec_tokens[1:]) and b"\x00" not in second:
+            raise UnreadableFileError(
+                str(p),
+                f"the header (line 1) says {dims} dimensions but this row has {len(sec_tokens) - 1} values",
+                line=2,
+                word=sec_tokens[0].decode("utf-8", "replace"),
+            )
+        return Detected(p, "word2vec-binary", compression, dims, count)
+    if len(tokens) >= 2 and _looks_like_floats(tokens[1:]):
+        return Detected(p, "glove-text", compression, len(tokens) - 1, None, trailing_space=first.endswith(b" "))
+    if len(tokens) == 1 and len(lines) > 1:
+        raise UnreadableFileError(str(p), "a word with no values after it", line=1)
+    raise UnreadableFileError(
+        str(p),
+        "not a word2vec/GloVe text file, word2vec binary file or .npy matrix (first line is neither "
+        "an 'N D' header nor a word followed by numbers)",
+        line=1,
+    )
+
+
+def read_batches(det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536) -> Iterator[Batch]:
+    """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line."""
+    from . import read_binary, read_other, read_text
+
+    if det.kind in ("word2vec-text", "glove-text"):
+        return read_text.read(det, progress)
+    if det.kind == "word2vec-binary":
+        return read_binary.read(det, progress, batch_rows)
+    if det.kind == "npy":
+        return read_other.read_npy(det, progress, batch_rows)
+    return read_other.read_pickle(det, progress, batch_rows)
+
+
+def decode_words(raw: list[bytes], warnings: list[str], counter: list[int]) -> list[str]:
+    """Decode UTF-8 words; bytes that are not UTF-8 are replaced (U+FFFD) and counted in ``counter[0]``."""
+    if not raw:
+        return []
+    joined = b"\n".join(raw)
+    if joined.count(b"\n") == len(raw) - 1:
+        try:
+            return joined.decode("utf-8").split("\n")
+        except UnicodeDecodeError:
+            pass
+    out = []
+    for w in raw:
+        try:
+            out.append(w.decode("utf-8"))
+        except UnicodeDecodeError:
+            counter[0] += 1
+            out.append(w.decode("utf-8", "replace"))
+    return out
+
+
+def stream_for_reading(det: Detected) -> tuple[io.BufferedIOBase | BinaryIO, BinaryIO]:
+    return open_stream(det.path, det.compression)

@@ -1,0 +1,228 @@
+"""word2vec / GloVe text reader.
+
+Fast path: pyarrow's multi-threaded CSV reader with the space as delimiter, each value typed float32 (10x+ faster
+than gensim's ``load_word2vec_format``, see ``tests/bench``). It accepts only the regular layout (one space between
+fields, an optional trailing space, no blank lines), which is what the usual tools write. Anything else — a row
+with the wrong number of values, a value that is not a number, tabs or double spaces, a blank line — makes it stop;
+the careful path then re-reads the file line by line from the row where the fast path stopped, either accepting the
+irregular but valid layout or raising an error that names the line, the column and the word.
+"""
+
+from __future__ import annotations
+
+import lzma
+import math
+import zlib
+from collections.abc import Iterator
+import numpy as np
+
+from .errors import UnreadableFileError
+from .formats import Batch, Detected, decode_words, open_stream, read_stream_errors
+from .progress import ProgressFn
+
+STREAM_ERRORS = (EOFError, zlib.error, lzma.LZMAError, OSError)
+SLOW_BATCH = 8192
+FLOAT32_MAX = float(np.finfo(np.float32).max)
+
+
+def read(det: Detected, progress: ProgressFn | None) -> Iterator[Batch]:
+    """Yield batches of rows; the file's own warnings (none here) go to ``det.warnings``."""
+    done_rows = 0
+    bad_utf8 = [0]
+    try:
+        for batch in _fast(det, progress, bad_utf8):
+            done_rows += len(batch.words)
+            yield batch
+        failed = False
+    except _FastPathGaveUp:
+        failed = True
+    if failed:
+        yield from _careful(det, progress, done_rows, bad_utf8)
+    if bad_utf8[0]:
+        det.warnings.append(f"{bad_utf8[0]} words had bytes that are not UTF-8 (shown as U+FFFD)")
+
+
+class _FastPathGaveUp(Exception):
+    pass
+
+
+def _first_line_no(det: Detected) -> int:
+    return 2 if det.header_count is not None else 1
+
+
+def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> Iterator[Batch]:
+    import pyarrow as pa
+    import pyarrow.csv as pcsv
+
+    dims = det.dims
+    ncols = dims + 1 + (1 if det.trailing_space else 0)
+    names = [f"c{i}" for i in range(ncols)]
+    types = {"c0": pa.binary()} | {f"c{i}": pa.float32() for i in range(1, dims + 1)}
+    if det.trailing_space:
+        types[f"c{dims + 1}"] = pa.binary()
+    stream, raw = open_stream(det.path, det.compression)
+    total = det.path.stat().st_size
+    try:
+        if det.header_count is not None:
+            stream.readline()
+        reader = pcsv.open_csv(
+            stream,
+            read_options=pcsv.ReadOptions(column_names=names, block_size=1 << 23, use_threads=True),
+            parse_options=pcsv.ParseOptions(
+                delimiter=" ", quote_char=False, escape_char=False, ignore_empty_lines=False
+            ),
+            convert_options=pcsv.ConvertOptions(
+                column_types=types, null_values=[], strings_can_be_null=False, quoted_strings_can_be_null=False
+            ),
+        )
+        row = 0
+        while True:
+            try:
+                rb = reader.read_next_batch()
+            except StopIteration:
+                break
+            n = rb.num_rows
+            vec = np.empty((n, dims), dtype=np.float32)
+            for j in range(dims):
+                col = rb.column(j + 1)
+                if col.null_count:
+                    raise _FastPathGaveUp
+                vec[:, j] = col.to_numpy(zero_copy_only=False)
+            if det.trailing_space:
+                import pyarrow.compute as pc
+
+                tail = rb.column(dims + 1)
+                if n and pc.max(pc.binary_length(tail)).as_py():
+                    raise _FastPathGaveUp
+            finite = np.isfinite(vec).all(axis=1)
+            if not finite.all():
+                raise _FastPathGaveUp  # the careful path names the line and the value
+            words = decode_words(rb.column(0).to_pylist(), det.warnings, bad_utf8)
+            yield Batch(words, vec, row)
+            row += n
+            if progress is not None:
+                progress(raw.tell(), total, "parsing")
+    except STREAM_ERRORS as exc:
+        raise read_stream_errors(det.path, det.compression, exc) from None
+    except pa.ArrowInvalid:
+        raise _FastPathGaveUp from None
+    finally:
+        stream.close()
+        raw.close()
+
+
+def _careful(det: Detected, progress: ProgressFn | None, skip_rows: int, bad_utf8: list[int]) -> Iterator[Batch]:
+    """Line-by-line reader: any whitespace between fields; blank lines skipped; precise errors."""
+    path = str(det.path)
+    dims = det.dims
+    stream, raw = open_stream(det.path, det.compression)
+    total = det.path.stat().st_size
+    line_no = 0
+    row = 0
+    words: list[bytes] = []
+    values: list[list[bytes]] = []
+    start_row = skip_rows
+    try:
+        if det.header_count is not None:
+            stream.readline()
+            line_no = 1
+        for line in stream:
+            line_no += 1
+            parts = line.split()
+            if not parts:
+                continue
+            if row < skip_rows:
+                row += 1
+                continue
+            if len(parts) - 1 != dims:
+                word = parts[0].decode("utf-8", "replace")
+                what = "the header" if det.header_count is not None else "the first row"
+                raise UnreadableFileError(
+                    path,
+                    f"expected {dims} values after the word (as {what} says), found {len(parts) - 1}",
+                    line=line_no,
+                    word=word,
+                )
+            words.append(parts[0])
+            values.append(parts[1:])
+            row += 1
+            if len(words) >= SLOW_BATCH:
+                yield _to_batch(path, words, values, start_row, line_no - len(words) + 1, det, bad_utf8, line)
+                start_row = row
+                words, values = [], []
+                if progress is not None:
+                    progress(raw.tell(), total, "parsing (careful)")
+        if words:
+            yield _to_batch(path, words, values, start_row, None, det, bad_utf8, b"")
+    except STREAM_ERRORS as exc:
+        raise read_stream_errors(det.path, det.compression, exc) from None
+    finally:
+        stream.close()
+        raw.close()
+
+
+def _to_batch(
+    path: str,
+    words: list[bytes],
+    values: list[list[bytes]],
+    start_row: int,
+    _first_line: int | None,
+    det: Detected,
+    bad_utf8: list[int],
+    _line: bytes,
+) -> Batch:
+    try:
+        vec = np.array(values, dtype=np.float32)
+    except ValueError:
+        vec = None
+    if vec is None or not np.isfinite(vec).all():
+        _locate_bad_value(path, det, start_row, words, values)
+    assert vec is not None
+    return Batch(decode_words(words, det.warnings, bad_utf8), vec, start_row)
+
+
+def _locate_bad_value(path: str, det: Detected, start_row: int, words: list[bytes], values: list[list[bytes]]) -> None:
+    """Find the first value in this batch that is not a finite number and raise an error naming its line."""
+    for i, vals in enumerate(values):
+        for j, v in enumerate(vals):
+            try:
+                x = float(v)
+            except ValueError:
+                problem = f"value {j + 1} of {det.dims} is not a number: {v.decode('utf-8', 'replace')[:40]!r}"
+            else:
+                if math.isfinite(x) and abs(x) <= FLOAT32_MAX:
+                    continue
+                problem = f"value {j + 1} of {det.dims} is {v.decode('utf-8', 'replace')[:40]!r}, not a finite number"
+            line, col = _find_line(det, start_row + i, j)
+            raise UnreadableFileError(path, problem, line=line, column=col, word=words[i].decode("utf-8", "replace"))
+    raise UnreadableFileError(path, "a value could not be read as a number")
+
+
+def _find_line(det: Detected, target_row: int, value_index: int) -> tuple[int, int | None]:
+    """Line number and 1-based character column of value ``value_index`` of data row ``target_row``."""
+    stream, raw = open_stream(det.path, det.compression)
+    try:
+        line_no = 0
+        if det.header_count is not None:
+            stream.readline()
+            line_no = 1
+        row = -1
+        for line in stream:
+            line_no += 1
+            if not line.split():
+                continue
+            row += 1
+            if row == target_row:
+                text = line.decode("utf-8", "replace")
+                pos = 0
+                toks = text.split()
+                for k, tok in enumerate(toks):
+                    pos = text.index(tok, pos)
+                    if k == value_index + 1:
+                        return line_no, pos + 1
+                    pos += len(tok)
+                return line_no, None
+    finally:
+        stream.close()
+        raw.close()
+    return line_no, None

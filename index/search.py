@@ -1,0 +1,147 @@
+"""Nearest neighbours: an exact scan (one matrix-vector product and a partial sort) or annoy candidates
+re-scored exactly. The query word and all-zero rows are never returned."""
+
+from __future__ import annotations
+
+import time
+from collections.abc import Sequence
+
+import numpy as np
+from numpy.typing import NDArray
+
+from .ann import EXACT_BELOW_WORDS, AnnIndex
+from .errors import UsageError
+from .results import Neighbour, NeighbourResult
+from .store import VectorSet
+
+MAX_K = 10_000
+
+
+def check_k(k: int, vs: VectorSet) -> int:
+    if not isinstance(k, int) or k < 1:
+        raise UsageError(f"-k must be a positive whole number, not {k!r}")
+    if k > MAX_K:
+        raise UsageError(f"-k is at most {MAX_K}, not {k}")
+    return min(k, vs.n)
+
+
+def check_top(top: int | None, vs: VectorSet) -> int | None:
+    if top is None:
+        return None
+    if top < 1:
+        raise UsageError(f"--top must be a positive whole number, not {top}")
+    return None if top >= vs.n else top
+
+
+def unit_query(vec: NDArray[np.float32]) -> NDArray[np.float32]:
+    q = np.ascontiguousarray(vec, dtype=np.float32)
+    n = float(np.linalg.norm(q))
+    return q / n if n > 0 else q
+
+
+def exact_top(
+    vs: VectorSet, q: NDArray[np.float32], k: int, exclude: Sequence[int] = (), top: int | None = None
+) -> tuple[NDArray[np.int64], NDArray[np.float32]]:
+    """Rows and cosines of the ``k`` rows nearest unit vector ``q``, best first, skipping ``exclude`` and zero rows."""
+    m = vs.unit if top is None else vs.unit[:top]
+    scores = m @ q
+    if len(exclude):
+        ex = np.asarray(exclude, dtype=np.int64)
+        scores[ex[ex < len(scores)]] = -np.inf
+    if len(vs.zero_rows):
+        z = vs.zero_rows
+        scores[z[z < len(scores)]] = -np.inf
+    k = min(k, len(scores))
+    if k <= 0:
+        return np.empty(0, np.int64), np.empty(0, np.float32)
+    part = np.argpartition(-scores, k - 1)[:k] if k < len(scores) else np.arange(len(scores))
+    order = part[np.lexsort((part, -scores[part]))]
+    order = order[np.isfinite(scores[order])]
+    return order.astype(np.int64), scores[order]
+
+
+def rerank(
+    vs: VectorSet, q: NDArray[np.float32], cands: NDArray[np.int64], k: int, exclude: Sequence[int], top: int | None = None
+) -> tuple[NDArray[np.int64], NDArray[np.float32]]:
+    """Exact cosines for candidate rows, best ``k`` first, skipping ``exclude``, zero rows and rows >= ``top``."""
+    if len(cands) == 0:
+        return cands, np.empty(0, np.float32)
+    drop = np.isin(cands, np.asarray(list(exclude), dtype=np.int64))
+    if len(vs.zero_rows):
+        drop |= np.isin(cands, vs.zero_rows)
+    if top is not None:
+        drop |= cands >= top
+    cands = np.unique(cands[~drop])
+    scores = vs.unit[np.sort(cands)] @ q
+    order = np.lexsort((cands, -scores))[:k]
+    return cands[order], scores[order]
+
+
+def use_ann(vs: VectorSet, ann: AnnIndex | None, mode: str) -> bool:
+    if mode == "exact" or ann is None:
+        return False
+    if mode == "ann":
+        return True
+    return ann.usable and vs.n >= EXACT_BELOW_WORDS
+
+
+def top_for_vector(
+    vs: VectorSet,
+    q: NDArray[np.float32],
+    k: int,
+    exclude: Sequence[int],
+    *,
+    ann: AnnIndex | None = None,
+    mode: str = "auto",
+    top: int | None = None,
+) -> tuple[NDArray[np.int64], NDArray[np.float32], str]:
+    """The ``k`` best rows for unit vector ``q``; returns ``(rows, cosines, mode used)``."""
+    if use_ann(vs, ann, mode):
+        assert ann is not None
+        want = k + len(exclude) + 10
+        if top is not None:
+            want = int(want * min(50.0, vs.n / top))
+        cands = np.asarray(ann.candidates(q, want), dtype=np.int64)
+        rows, scores = rerank(vs, q, cands, k, exclude, top)
+        if len(rows) >= min(k, (top or vs.n) - len(exclude) - len(vs.zero_rows)):
+            return rows, scores, "ann"
+    rows, scores = exact_top(vs, q, k, exclude, top)
+    return rows, scores, "exact"
+
+
+def neighbours(
+    vs: VectorSet,
+    word: str,
+    k: int = 10,
+    *,
+    ann: AnnIndex | None = None,
+    mode: str = "auto",
+    top: int | None = None,
+) -> NeighbourResult:
+    """The ``k`` words nearest ``word`` by cosine (the word itself excluded)."""
+    t0 = time.perf_counter()
+    k = check_k(k, vs)
+    top = check_top(top, vs)
+    r = vs.row(word)
+    q = np.asarray(vs.unit[r], dtype=np.float32)
+    if vs.is_zero(r):
+        return NeighbourResult(word, k, "exact", (), top, (time.perf_counter() - t0) * 1000)
+    rows, scores, used = top_for_vector(vs, q, k, [r], ann=ann, mode=mode, top=top)
+    res = tuple(Neighbour(i + 1, vs.words[int(row)], float(s)) for i, (row, s) in enumerate(zip(rows, scores, strict=True)))
+    return NeighbourResult(word, k, used, res, top, (time.perf_counter() - t0) * 1000)
+
+
+def rank_of(vs: VectorSet, q: NDArray[np.float32], target: int, exclude: Sequence[int] = (), top: int | None = None) -> int | None:
+    """1-based rank of row ``target`` among all rows by cosine to ``q`` (``exclude`` and zero rows skipped)."""
+    if target in exclude or vs.is_zero(target) or (top is not None and target >= top):
+        return None
+    m = vs.unit if top is None else vs.unit[:top]
+    scores = m @ q
+    t = scores[target]
+    mask = np.ones(len(scores), dtype=bool)
+    mask[np.asarray(list(exclude), dtype=np.int64)] = False
+    if len(vs.zero_rows):
+        mask[vs.zero_rows[vs.zero_rows < len(scores)]] = False
+    better = int(np.count_nonzero((scores > t) & mask))
+    ties_before = int(np.count_nonzero((scores[:target] == t) & mask[:target]))
+    return better + ties_before + 1
