@@ -6,7 +6,10 @@ import argparse
 import sys
 from typing import Any
 
+from index.expr import ExprError
+
 from .cli import emit_json, open_set, warn
+from .safe_text import visible
 from .render import neighbour_table
 
 
@@ -28,6 +31,57 @@ def cmd_near(args: argparse.Namespace) -> int:
     else:
         sys.stdout.write(neighbour_table(res.results, title=f"neighbours of {res.query} ({res.mode})"))
     _maybe_save(args, vs, res)
+    return 0
+
+
+def cmd_calc(args: argparse.Namespace) -> int:
+    from index.analogy import calc
+
+    from .render import calc_text
+
+    vs = open_set(args)
+    try:
+        res = calc(vs, args.expr, args.k, method=args.method, top=args.top, keep_inputs=args.keep_inputs,
+                   ann=_ann_for(vs, args.exact), mode="exact" if args.exact else "auto")
+    except ExprError as exc:
+        from rich.cells import cell_len
+
+        text = exc.text.replace("\n", " ").replace("\t", " ")
+        caret = " " * cell_len(visible(text[: exc.column])) + "^"
+        print(f"wordkin: expression, column {exc.column + 1}: {visible(exc.expected)}", file=sys.stderr)
+        print(f"  {visible(text)}\n  {caret}", file=sys.stderr)
+        return exc.exit_code
+    emit_json(res.to_json()) if args.json else sys.stdout.write(calc_text(res))
+    _maybe_save(args, vs, res)
+    return 0
+
+
+def cmd_sim(args: argparse.Namespace) -> int:
+    from index.similarity import similarity
+
+    from .render import similarity_text
+
+    vs = open_set(args)
+    res = similarity(vs, list(args.words))
+    emit_json(res.to_json()) if args.json else sys.stdout.write(similarity_text(res))
+    _maybe_save(args, vs, res)
+    return 0
+
+
+def cmd_score(args: argparse.Namespace) -> int:
+    from index.scoring import score_analogies, score_pairs
+
+    from .progress_bar import stderr_progress
+    from .render import score_text
+
+    vs = open_set(args)
+    if args.analogies:
+        with stderr_progress() as report:
+            res: Any = score_analogies(vs, args.analogies, method=args.method, top=args.top,
+                                       case_fold=args.case_fold, progress=report)
+    else:
+        res = score_pairs(vs, args.pairs, top=args.top, case_fold=args.case_fold)
+    emit_json(res.to_json()) if args.json else sys.stdout.write(score_text(res))
     return 0
 
 
