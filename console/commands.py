@@ -9,8 +9,8 @@ from typing import Any
 from index.expr import ExprError
 
 from .cli import emit_json, open_set, warn
-from .safe_text import visible
 from .render import neighbour_table
+from .safe_text import visible
 
 
 def _ann_for(vs: Any, exact: bool) -> Any:
@@ -25,7 +25,14 @@ def cmd_near(args: argparse.Namespace) -> int:
     from index.search import neighbours
 
     vs = open_set(args)
-    res = neighbours(vs, args.word, args.k, ann=_ann_for(vs, args.exact), mode="exact" if args.exact else "auto", top=args.top)
+    res = neighbours(
+        vs,
+        args.word,
+        args.k,
+        ann=_ann_for(vs, args.exact),
+        mode="exact" if args.exact else "auto",
+        top=args.top,
+    )
     if args.json:
         emit_json(res.to_json())
     else:
@@ -41,8 +48,16 @@ def cmd_calc(args: argparse.Namespace) -> int:
 
     vs = open_set(args)
     try:
-        res = calc(vs, args.expr, args.k, method=args.method, top=args.top, keep_inputs=args.keep_inputs,
-                   ann=_ann_for(vs, args.exact), mode="exact" if args.exact else "auto")
+        res = calc(
+            vs,
+            args.expr,
+            args.k,
+            method=args.method,
+            top=args.top,
+            keep_inputs=args.keep_inputs,
+            ann=_ann_for(vs, args.exact),
+            mode="exact" if args.exact else "auto",
+        )
     except ExprError as exc:
         from rich.cells import cell_len
 
@@ -77,8 +92,14 @@ def cmd_score(args: argparse.Namespace) -> int:
     vs = open_set(args)
     if args.analogies:
         with stderr_progress() as report:
-            res: Any = score_analogies(vs, args.analogies, method=args.method, top=args.top,
-                                       case_fold=args.case_fold, progress=report)
+            res: Any = score_analogies(
+                vs,
+                args.analogies,
+                method=args.method,
+                top=args.top,
+                case_fold=args.case_fold,
+                progress=report,
+            )
     else:
         res = score_pairs(vs, args.pairs, top=args.top, case_fold=args.case_fold)
     emit_json(res.to_json()) if args.json else sys.stdout.write(score_text(res))
@@ -124,10 +145,14 @@ def _print_info(d: dict[str, Any]) -> None:
         f"cache    {d['cache'] or 'off'}",
     ]
     if idx["state"] == "ready":
-        lines.append(f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}, "
-                     f"recall@10 {idx['recall_at_10']:.3f} (measured against exact search)")
+        lines.append(
+            f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}, "
+            f"recall@10 {idx['recall_at_10']:.3f} (measured against exact search)"
+        )
     else:
-        lines.append(f"index    {idx['state']} (queries are answered by exact search; `wordkin prepare` builds it)")
+        lines.append(
+            f"index    {idx['state']} (queries are answered by exact search; `wordkin prepare` builds it)"
+        )
     sys.stdout.write("\n".join(lines) + "\n")
 
 
@@ -155,6 +180,28 @@ def cmd_prepare(args: argparse.Namespace) -> int:
     _print_info(_info_dict(vs))
     idx = vs.meta["index"]
     sys.stdout.write(f"built    in {idx['build_seconds']} s; p50 query {idx['query_ms_p50']} ms\n")
+    return 0
+
+
+def cmd_export(args: argparse.Namespace) -> int:
+    from .export import export_command, write_file
+
+    text = export_command(args)
+    if args.output and args.output != "-":
+        p = write_file(args.output, text, force=args.force)
+        print(f"wordkin: wrote {p}", file=sys.stderr)
+    else:
+        sys.stdout.write(text)
+    return 0
+
+
+def cmd_import(args: argparse.Namespace) -> int:
+    from .export import import_json
+    from .notebook import Notebook
+
+    with Notebook.open(args.notebook) as nb:
+        n = import_json(args.json_file, nb)
+    print(f"wordkin: imported {n} entries into {args.notebook}", file=sys.stderr)
     return 0
 
 

@@ -8,7 +8,7 @@ from rich.cells import cell_len
 
 from index.results import Neighbour
 
-from .safe_text import visible
+from .safe_text import visible, visible_word
 
 
 def pad(text: str, width: int) -> str:
@@ -16,7 +16,7 @@ def pad(text: str, width: int) -> str:
 
 
 def neighbour_table(rows: Sequence[Neighbour], title: str = "", score_label: str = "cosine") -> str:
-    words = [visible(r.word) for r in rows]
+    words = [visible_word(r.word) for r in rows]
     w = max([4] + [cell_len(x) for x in words])
     out = [visible(title)] if title else []
     out.append(f"{'rank':>4}  {pad('word', w)}  {score_label}")
@@ -29,7 +29,9 @@ def neighbour_table(rows: Sequence[Neighbour], title: str = "", score_label: str
 
 def calc_text(res) -> str:  # type: ignore[no-untyped-def]
     what = "cosine" if res.method == "add" else "3CosMul score"
-    out = neighbour_table(res.results, title=f"{res.expression}   [{res.method}, {res.mode}]", score_label=what)
+    out = neighbour_table(
+        res.results, title=f"{res.expression}   [{res.method}, {res.mode}]", score_label=what
+    )
     if res.excluded:
         out += "excluded: " + ", ".join(visible(w) for w in res.excluded) + "\n"
     if res.target is not None:
@@ -41,7 +43,7 @@ def calc_text(res) -> str:  # type: ignore[no-untyped-def]
 
 
 def similarity_text(res) -> str:  # type: ignore[no-untyped-def]
-    words = [visible(w) for w in res.words]
+    words = [visible_word(w) for w in res.words]
     w = max(cell_len(x) for x in words)
     cw = max(6, min(12, w))
     head = " " * (w + 2) + " ".join(pad(x[:cw], cw) for x in words)
@@ -72,7 +74,9 @@ def score_text(res) -> str:  # type: ignore[no-untyped-def]
             lines.append(f"{pad(visible(s.name), w)}  {s.answered:>8}  {s.correct:>7}  {acc:>8}")
         acc = "-" if res.accuracy is None else f"{res.accuracy:.3f}"
         lines.append(f"{pad('overall', w)}  {res.answered:>8}  {res.correct:>7}  {acc:>8}")
-        lines.append(f"{res.total - res.answered} of {res.total} questions skipped (a word not in the top {res.top})")
+        lines.append(
+            f"{res.total - res.answered} of {res.total} questions skipped (a word not in the top {res.top})"
+        )
         return "\n".join(lines) + "\n"
     rho = "-" if res.spearman is None else f"{res.spearman:.4f}"
     r = "-" if res.pearson is None else f"{res.pearson:.4f}"

@@ -24,17 +24,24 @@ def _esc(m: re.Match[str]) -> str:
 def visible(text: str) -> str:
     """``text`` with every control or invisible format character shown as an escape."""
     if not text:
-        return '""'
+        return ""
     if text.isprintable() and not _UNSAFE.search(text):
         return text
     out = _UNSAFE.sub(_esc, text)
     # Anything else non-printable (other Cf/Cc/Cs/Co code points, e.g. lone surrogates).
     if not out.isprintable():
         out = "".join(
-            ch if ch.isprintable() or ch == " " else (f"\\u{ord(ch):04x}" if ord(ch) <= 0xFFFF else f"\\U{ord(ch):08x}")
+            ch
+            if ch.isprintable() or ch == " "
+            else (f"\\u{ord(ch):04x}" if ord(ch) <= 0xFFFF else f"\\U{ord(ch):08x}")
             for ch in out
         )
-    return out if out else '""'
+    return out
+
+
+def visible_word(word: str) -> str:
+    """A word as shown in tables: like ``visible``, and the empty word (binary files allow it) as ``""``."""
+    return visible(word) if word else '""'
 
 
 def is_wide(ch: str) -> bool:

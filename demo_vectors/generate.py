@@ -30,59 +30,180 @@ HERE = Path(__file__).resolve().parent
 SEED = 20261201
 
 COUNTRIES = [  # (country, capital, nationality adjective): real, from general knowledge
-    ("france", "paris", "french"), ("italy", "rome", "italian"), ("spain", "madrid", "spanish"),
-    ("portugal", "lisbon", "portuguese"), ("greece", "athens", "greek"), ("norway", "oslo", "norwegian"),
-    ("sweden", "stockholm", "swedish"), ("finland", "helsinki", "finnish"), ("denmark", "copenhagen", "danish"),
-    ("ireland", "dublin", "irish"), ("germany", "berlin", "german"), ("poland", "warsaw", "polish"),
-    ("austria", "vienna", "austrian"), ("hungary", "budapest", "hungarian"), ("turkey", "ankara", "turkish"),
-    ("egypt", "cairo", "egyptian"), ("japan", "tokyo", "japanese"), ("china", "beijing", "chinese"),
-    ("russia", "moscow", "russian"), ("peru", "lima", "peruvian"), ("chile", "santiago", "chilean"),
-    ("canada", "ottawa", "canadian"), ("mexico", "mexico_city", "mexican"), ("kenya", "nairobi", "kenyan"),
-    ("iceland", "reykjavik", "icelandic"), ("croatia", "zagreb", "croatian"), ("estonia", "tallinn", "estonian"),
-    ("latvia", "riga", "latvian"), ("thailand", "bangkok", "thai"), ("vietnam", "hanoi", "vietnamese"),
+    ("france", "paris", "french"),
+    ("italy", "rome", "italian"),
+    ("spain", "madrid", "spanish"),
+    ("portugal", "lisbon", "portuguese"),
+    ("greece", "athens", "greek"),
+    ("norway", "oslo", "norwegian"),
+    ("sweden", "stockholm", "swedish"),
+    ("finland", "helsinki", "finnish"),
+    ("denmark", "copenhagen", "danish"),
+    ("ireland", "dublin", "irish"),
+    ("germany", "berlin", "german"),
+    ("poland", "warsaw", "polish"),
+    ("austria", "vienna", "austrian"),
+    ("hungary", "budapest", "hungarian"),
+    ("turkey", "ankara", "turkish"),
+    ("egypt", "cairo", "egyptian"),
+    ("japan", "tokyo", "japanese"),
+    ("china", "beijing", "chinese"),
+    ("russia", "moscow", "russian"),
+    ("peru", "lima", "peruvian"),
+    ("chile", "santiago", "chilean"),
+    ("canada", "ottawa", "canadian"),
+    ("mexico", "mexico_city", "mexican"),
+    ("kenya", "nairobi", "kenyan"),
+    ("iceland", "reykjavik", "icelandic"),
+    ("croatia", "zagreb", "croatian"),
+    ("estonia", "tallinn", "estonian"),
+    ("latvia", "riga", "latvian"),
+    ("thailand", "bangkok", "thai"),
+    ("vietnam", "hanoi", "vietnamese"),
 ]
 
 NOUNS = {  # topic -> (singular, plural)
-    "lodging": [("hotel", "hotels"), ("inn", "inns"), ("guesthouse", "guesthouses"), ("hostel", "hostels"),
-                ("cottage", "cottages"), ("room", "rooms"), ("suite", "suites"), ("campsite", "campsites"),
-                ("cabin", "cabins"), ("villa", "villas"), ("bed", "beds"), ("balcony", "balconies")],
-    "food": [("oyster", "oysters"), ("mussel", "mussels"), ("crab", "crabs"), ("lobster", "lobsters"),
-             ("pie", "pies"), ("cake", "cakes"), ("chowder", "chowders"), ("scone", "scones"),
-             ("sardine", "sardines"), ("prawn", "prawns"), ("tart", "tarts"), ("loaf", "loaves")],
-    "transport": [("ferry", "ferries"), ("bus", "buses"), ("train", "trains"), ("boat", "boats"),
-                  ("taxi", "taxis"), ("tram", "trams"), ("bicycle", "bicycles"), ("yacht", "yachts"),
-                  ("platform", "platforms"), ("ticket", "tickets"), ("timetable", "timetables"), ("route", "routes")],
-    "activities": [("walk", "walks"), ("swim", "swims"), ("tour", "tours"), ("hike", "hikes"),
-                   ("cruise", "cruises"), ("museum", "museums"), ("gallery", "galleries"), ("festival", "festivals"),
-                   ("market", "markets"), ("beach", "beaches"), ("trail", "trails"), ("lighthouse", "lighthouses")],
+    "lodging": [
+        ("hotel", "hotels"),
+        ("inn", "inns"),
+        ("guesthouse", "guesthouses"),
+        ("hostel", "hostels"),
+        ("cottage", "cottages"),
+        ("room", "rooms"),
+        ("suite", "suites"),
+        ("campsite", "campsites"),
+        ("cabin", "cabins"),
+        ("villa", "villas"),
+        ("bed", "beds"),
+        ("balcony", "balconies"),
+    ],
+    "food": [
+        ("oyster", "oysters"),
+        ("mussel", "mussels"),
+        ("crab", "crabs"),
+        ("lobster", "lobsters"),
+        ("pie", "pies"),
+        ("cake", "cakes"),
+        ("chowder", "chowders"),
+        ("scone", "scones"),
+        ("sardine", "sardines"),
+        ("prawn", "prawns"),
+        ("tart", "tarts"),
+        ("loaf", "loaves"),
+    ],
+    "transport": [
+        ("ferry", "ferries"),
+        ("bus", "buses"),
+        ("train", "trains"),
+        ("boat", "boats"),
+        ("taxi", "taxis"),
+        ("tram", "trams"),
+        ("bicycle", "bicycles"),
+        ("yacht", "yachts"),
+        ("platform", "platforms"),
+        ("ticket", "tickets"),
+        ("timetable", "timetables"),
+        ("route", "routes"),
+    ],
+    "activities": [
+        ("walk", "walks"),
+        ("swim", "swims"),
+        ("tour", "tours"),
+        ("hike", "hikes"),
+        ("cruise", "cruises"),
+        ("museum", "museums"),
+        ("gallery", "galleries"),
+        ("festival", "festivals"),
+        ("market", "markets"),
+        ("beach", "beaches"),
+        ("trail", "trails"),
+        ("lighthouse", "lighthouses"),
+    ],
 }
 
 VERBS = [  # (present, past): activities and travel
-    ("walk", "walked"), ("sail", "sailed"), ("swim", "swam"), ("climb", "climbed"), ("visit", "visited"),
-    ("arrive", "arrived"), ("leave", "left"), ("eat", "ate"), ("drink", "drank"), ("sleep", "slept"),
-    ("book", "booked"), ("pay", "paid"), ("ride", "rode"), ("drive", "drove"), ("fly", "flew"),
-    ("explore", "explored"), ("fish", "fished"), ("row", "rowed"), ("paddle", "paddled"), ("cycle", "cycled"),
-    ("dine", "dined"), ("stay", "stayed"), ("wander", "wandered"), ("camp", "camped"), ("dive", "dived"),
-    ("see", "saw"), ("find", "found"), ("buy", "bought"), ("catch", "caught"), ("take", "took"),
+    ("walk", "walked"),
+    ("sail", "sailed"),
+    ("swim", "swam"),
+    ("climb", "climbed"),
+    ("visit", "visited"),
+    ("arrive", "arrived"),
+    ("leave", "left"),
+    ("eat", "ate"),
+    ("drink", "drank"),
+    ("sleep", "slept"),
+    ("book", "booked"),
+    ("pay", "paid"),
+    ("ride", "rode"),
+    ("drive", "drove"),
+    ("fly", "flew"),
+    ("explore", "explored"),
+    ("fish", "fished"),
+    ("row", "rowed"),
+    ("paddle", "paddled"),
+    ("cycle", "cycled"),
+    ("dine", "dined"),
+    ("stay", "stayed"),
+    ("wander", "wandered"),
+    ("camp", "camped"),
+    ("dive", "dived"),
+    ("see", "saw"),
+    ("find", "found"),
+    ("buy", "bought"),
+    ("catch", "caught"),
+    ("take", "took"),
 ]
 
 ADJECTIVES = [  # (base, comparative, superlative): weather and places
-    ("warm", "warmer", "warmest"), ("cold", "colder", "coldest"), ("wet", "wetter", "wettest"),
-    ("dry", "drier", "driest"), ("windy", "windier", "windiest"), ("sunny", "sunnier", "sunniest"),
-    ("calm", "calmer", "calmest"), ("rough", "rougher", "roughest"), ("quiet", "quieter", "quietest"),
-    ("busy", "busier", "busiest"), ("cheap", "cheaper", "cheapest"), ("small", "smaller", "smallest"),
-    ("large", "larger", "largest"), ("old", "older", "oldest"), ("new", "newer", "newest"),
-    ("clean", "cleaner", "cleanest"), ("steep", "steeper", "steepest"), ("deep", "deeper", "deepest"),
-    ("long", "longer", "longest"), ("short", "shorter", "shortest"), ("bright", "brighter", "brightest"),
-    ("cool", "cooler", "coolest"), ("fresh", "fresher", "freshest"), ("safe", "safer", "safest"),
+    ("warm", "warmer", "warmest"),
+    ("cold", "colder", "coldest"),
+    ("wet", "wetter", "wettest"),
+    ("dry", "drier", "driest"),
+    ("windy", "windier", "windiest"),
+    ("sunny", "sunnier", "sunniest"),
+    ("calm", "calmer", "calmest"),
+    ("rough", "rougher", "roughest"),
+    ("quiet", "quieter", "quietest"),
+    ("busy", "busier", "busiest"),
+    ("cheap", "cheaper", "cheapest"),
+    ("small", "smaller", "smallest"),
+    ("large", "larger", "largest"),
+    ("old", "older", "oldest"),
+    ("new", "newer", "newest"),
+    ("clean", "cleaner", "cleanest"),
+    ("steep", "steeper", "steepest"),
+    ("deep", "deeper", "deepest"),
+    ("long", "longer", "longest"),
+    ("short", "shorter", "shortest"),
+    ("bright", "brighter", "brightest"),
+    ("cool", "cooler", "coolest"),
+    ("fresh", "fresher", "freshest"),
+    ("safe", "safer", "safest"),
 ]
 
 ROLES = [  # (male, female) role nouns of the trade
-    ("waiter", "waitress"), ("host", "hostess"), ("steward", "stewardess"), ("landlord", "landlady"),
-    ("actor", "actress"), ("fisherman", "fisherwoman"), ("prince", "princess"), ("duke", "duchess"),
-    ("king", "queen"), ("husband", "wife"), ("brother", "sister"), ("father", "mother"), ("son", "daughter"),
-    ("uncle", "aunt"), ("nephew", "niece"), ("boy", "girl"), ("man", "woman"), ("gentleman", "lady"),
-    ("groom", "bride"), ("ferryman", "ferrywoman"), ("boatman", "boatwoman"), ("barman", "barmaid"),
+    ("waiter", "waitress"),
+    ("host", "hostess"),
+    ("steward", "stewardess"),
+    ("landlord", "landlady"),
+    ("actor", "actress"),
+    ("fisherman", "fisherwoman"),
+    ("prince", "princess"),
+    ("duke", "duchess"),
+    ("king", "queen"),
+    ("husband", "wife"),
+    ("brother", "sister"),
+    ("father", "mother"),
+    ("son", "daughter"),
+    ("uncle", "aunt"),
+    ("nephew", "niece"),
+    ("boy", "girl"),
+    ("man", "woman"),
+    ("gentleman", "lady"),
+    ("groom", "bride"),
+    ("ferryman", "ferrywoman"),
+    ("boatman", "boatwoman"),
+    ("barman", "barmaid"),
 ]
 
 TOPIC_WORDS = {
@@ -113,7 +234,9 @@ ROLE_MARKERS = {
     "region": "region province county district inland across".split(),
 }
 
-SYL_A = "bra kel mar sal pen tor wen dun cor hal lin ros fen gar mor tre bel car dor fal han pol ker lan".split()
+SYL_A = (
+    "bra kel mar sal pen tor wen dun cor hal lin ros fen gar mor tre bel car dor fal han pol ker lan".split()
+)
 SYL_B = "ck th rr wy ll nn st rn sh ch nd lt rd mb".split()
 SYL_C = "water mere ford by stow haven wick combe mouth port ness holm stead ton ley sey well".split()
 
@@ -152,7 +275,14 @@ def signature(rng: random.Random, pool: list[str], n: int = 4) -> list[str]:
 
 def sentence(rng: random.Random, target: str, sig: list[str], topic: list[str], markers: list[str]) -> str:
     """A guidebook-like line: the target among its pair's signature, its topic and its side's markers."""
-    words = [target, rng.choice(sig), rng.choice(sig), rng.choice(topic), rng.choice(markers), rng.choice(markers)]
+    words = [
+        target,
+        rng.choice(sig),
+        rng.choice(sig),
+        rng.choice(topic),
+        rng.choice(markers),
+        rng.choice(markers),
+    ]
     glue = rng.choice(["with", "and", "near", "for", "on", "by", "at", "in"])
     rng.shuffle(words)
     words.insert(rng.randint(1, len(words) - 1), glue)
@@ -190,7 +320,15 @@ def corpus(rng: random.Random, world: dict, reps: int = 40) -> list[str]:
                 out.append(sentence(rng, town, feats, places + marks[:1], M["town"]))
             for f in feats:
                 for _ in range(8):
-                    out.append(sentence(rng, f, [town, town, *marks[:2]], TOPIC_WORDS[rng.choice(list(NOUNS))], ["the", "our", "its"]))
+                    out.append(
+                        sentence(
+                            rng,
+                            f,
+                            [town, town, *marks[:2]],
+                            TOPIC_WORDS[rng.choice(list(NOUNS))],
+                            ["the", "our", "its"],
+                        )
+                    )
     rng.shuffle(out)
     return out
 
@@ -230,8 +368,16 @@ def main() -> None:
         args.corpus.write_text("\n".join(lines) + "\n")
     sents = [ln.split() for ln in lines]
     model = Word2Vec(
-        sents, vector_size=48, window=6, min_count=3, sg=0, negative=10, sample=1e-3, epochs=args.epochs,
-        workers=1, seed=SEED % (2**31),
+        sents,
+        vector_size=48,
+        window=6,
+        min_count=3,
+        sg=0,
+        negative=10,
+        sample=1e-3,
+        epochs=args.epochs,
+        workers=1,
+        seed=SEED % (2**31),
     )
     args.out.mkdir(parents=True, exist_ok=True)
     tmp = args.out / "brackwater.vec"
@@ -240,7 +386,9 @@ def main() -> None:
     tmp.unlink()
     # mtime=0 and no file name in the gzip header keep the .gz byte-identical across runs and folders.
     (args.out / "brackwater.vec.gz").write_bytes(gzip.compress(data, compresslevel=9, mtime=0))
-    (args.out / "brackwater-analogies.txt").write_text("\n".join(analogies(random.Random(SEED + 1), world)) + "\n")
+    (args.out / "brackwater-analogies.txt").write_text(
+        "\n".join(analogies(random.Random(SEED + 1), world)) + "\n"
+    )
     print(f"{len(model.wv)} words, {sum(len(s) for s in sents)} tokens")
 
 

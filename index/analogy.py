@@ -48,7 +48,12 @@ def as_expression(tree: Node | Analogy) -> Node:
 
 
 def mul_scores(
-    vs: VectorSet, pos: list[int], neg: list[int], rows: NDArray[np.int64] | None = None, *, epsilon: float = EPSILON
+    vs: VectorSet,
+    pos: list[int],
+    neg: list[int],
+    rows: NDArray[np.int64] | None = None,
+    *,
+    epsilon: float = EPSILON,
 ) -> NDArray[np.float32]:
     """3CosMul scores of ``rows`` (all rows if None) for positive and negative rows."""
     m = vs.unit if rows is None else vs.unit[rows]
@@ -97,7 +102,9 @@ def calc(
     else:
         sw = signed_words(expr)
         if sw is None:
-            raise UsageError("--method mul takes unweighted + and - words only (no weights, groups or centroids)")
+            raise UsageError(
+                "--method mul takes unweighted + and - words only (no weights, groups or centroids)"
+            )
         pos = [vs.row(w) for w in sw[0]]
         neg = [vs.row(w) for w in sw[1]]
         top_rows, scores, used = _mul_top(vs, expr, pos, neg, k, exclude, top, ann, mode, epsilon)
@@ -106,7 +113,10 @@ def calc(
             all_scores = mul_scores(vs, pos, neg, epsilon=epsilon)
             t_sim = float(all_scores[target_row])
             t_rank = _rank_in(vs, all_scores, target_row, exclude, top)
-    res = tuple(Neighbour(i + 1, vs.words[int(r)], float(s)) for i, (r, s) in enumerate(zip(top_rows, scores, strict=True)))
+    res = tuple(
+        Neighbour(i + 1, vs.words[int(r)], float(s))
+        for i, (r, s) in enumerate(zip(top_rows, scores, strict=True))
+    )
     return CalcResult(
         expression=to_text(tree),
         method=method,
@@ -122,7 +132,9 @@ def calc(
     )
 
 
-def _rank_in(vs: VectorSet, scores: NDArray[np.float32], target: int, exclude: list[int], top: int | None) -> int | None:
+def _rank_in(
+    vs: VectorSet, scores: NDArray[np.float32], target: int, exclude: list[int], top: int | None
+) -> int | None:
     if target in exclude or vs.is_zero(target) or (top is not None and target >= top):
         return None
     s = scores if top is None else scores[:top]
@@ -131,7 +143,9 @@ def _rank_in(vs: VectorSet, scores: NDArray[np.float32], target: int, exclude: l
     if len(vs.zero_rows):
         mask[vs.zero_rows[vs.zero_rows < len(s)]] = False
     t = scores[target]
-    return int(np.count_nonzero((s > t) & mask)) + int(np.count_nonzero((s[:target] == t) & mask[:target])) + 1
+    return (
+        int(np.count_nonzero((s > t) & mask)) + int(np.count_nonzero((s[:target] == t) & mask[:target])) + 1
+    )
 
 
 def _mul_top(

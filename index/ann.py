@@ -76,7 +76,9 @@ def load(vs: Any) -> AnnIndex | None:
     path = Path(vs.cache_dir) / INDEX_FILE
     try:
         if path.stat().st_size != int(info["file_bytes"]):
-            vs.warnings.append("annoy index file has the wrong size; ignored (rebuild with `wordkin prepare`)")
+            vs.warnings.append(
+                "annoy index file has the wrong size; ignored (rebuild with `wordkin prepare`)"
+            )
             return None
         from annoy import AnnoyIndex
 
@@ -143,7 +145,9 @@ def build(
         in_process = vs.n * vs.dims <= IN_PROCESS_BELOW
     try:
         if in_process:
-            _add_and_build(matrix, str(tmp), vs.dims, trees, seed, lambda st, d, t: report(d, t, f"index: {st}"))
+            _add_and_build(
+                matrix, str(tmp), vs.dims, trees, seed, lambda st, d, t: report(d, t, f"index: {st}")
+            )
         else:
             _build_in_child(matrix, str(tmp), vs.dims, trees, seed, report, cancel)
         build_s = time.perf_counter() - t0
@@ -210,7 +214,9 @@ def _build_in_child(
         parent.close()
 
 
-def choose_search_k(vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int = 10) -> tuple[int, float, float]:
+def choose_search_k(
+    vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int = 10
+) -> tuple[int, float, float]:
     """Smallest ``search_k`` on the ladder whose recall@k (after exact re-rank) reaches the target.
 
     Recall is measured on a seeded sample of non-zero rows as queries, against the exact top-k that excludes the
@@ -247,7 +253,9 @@ def choose_search_k(vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int
     return best
 
 
-def ann_top(vs: Any, ann: AnnIndex, q: np.ndarray, k: int, exclude: list[int]) -> tuple[np.ndarray, np.ndarray]:
+def ann_top(
+    vs: Any, ann: AnnIndex, q: np.ndarray, k: int, exclude: list[int]
+) -> tuple[np.ndarray, np.ndarray]:
     from .search import rerank
 
     cands = ann.candidates(q, k + len(exclude) + 10)

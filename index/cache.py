@@ -1,7 +1,8 @@
 """The on-disk cache of a parsed vector set.
 
-Layout: ``<root>/<key>/`` (key: a hash of the source's absolute path) with ``matrix.npy`` (unit-normalised float32, shape ``(n_words, dims)``, opened with
-``mmap_mode="r"``), ``norms.npy`` (the original norms), ``zero_rows.npy``, ``words.txt`` (UTF-8, one per line) and
+Layout: ``<root>/<key>/`` (key: a hash of the source's absolute path) with ``matrix.npy`` (unit-normalised
+float32, shape ``(n_words, dims)``, opened with ``mmap_mode="r"``), ``norms.npy`` (the original norms),
+``zero_rows.npy``, ``words.txt`` (UTF-8, one per line) and
 ``meta.json`` written last. A cache is built in a temporary sibling directory and renamed into place, so a reader
 sees either a whole cache or none. The annoy index (``annoy.ann``) is added later; its settings and measured recall
 go into ``meta.json`` (rewritten atomically). Every open validates the cache against the source file and the
@@ -73,7 +74,7 @@ def npy_header(shape: tuple[int, int]) -> bytes:
     The fixed length lets the writer reserve the header before the row count is known (format: numpy's
     ``numpy.lib.format`` documentation; the padding with spaces before the newline is allowed there).
     """
-    d = "{'descr': '<f4', 'fortran_order': False, 'shape': (%d, %d), }" % shape
+    d = "{'descr': '<f4', 'fortran_order': False, 'shape': (%d, %d), }" % shape  # noqa: UP031 - braces
     body_len = NPY_HEADER_LEN - 10
     d = d.ljust(body_len - 1) + "\n"
     out = b"\x93NUMPY\x01\x00" + body_len.to_bytes(2, "little") + d.encode("latin1")
@@ -150,7 +151,9 @@ def read_meta(dir_: Path) -> dict[str, Any] | None:
     return meta if isinstance(meta, dict) else None
 
 
-def validate(dir_: Path, meta: dict[str, Any] | None, source: Path, fingerprint: str, size: int, mtime_ns: int) -> str | None:
+def validate(
+    dir_: Path, meta: dict[str, Any] | None, source: Path, fingerprint: str, size: int, mtime_ns: int
+) -> str | None:
     """Return ``None`` if the cache in ``dir_`` may be trusted for ``source``, else the reason it may not."""
     if meta is None:
         return "meta.json is missing or unreadable"

@@ -241,7 +241,11 @@ class _Parser:
             else:
                 f = self.factor()
                 if vec is not None:
-                    raise ExprError(self.text, t.pos, "a number here: '*' multiplies a vector by a number, not by a vector")
+                    raise ExprError(
+                        self.text,
+                        t.pos,
+                        "a number here: '*' multiplies a vector by a number, not by a vector",
+                    )
                 vec = f
             if self.is_op("*"):
                 self.take()
@@ -261,7 +265,7 @@ class _Parser:
             self.take()
             node = self.sum()
             if not self.is_op(")"):
-                raise self.fail("')' to close the '(' at column %d" % (t.pos + 1))
+                raise self.fail(f"')' to close the '(' at column {t.pos + 1}")
             self.take()
             return node
         if self.is_op("{"):
@@ -271,7 +275,7 @@ class _Parser:
                 self.take()
                 items.append(self.sum())
             if not self.is_op("}"):
-                raise self.fail("',' or '}' to close the '{' at column %d" % (t.pos + 1))
+                raise self.fail(f"',' or '}}' to close the '{{' at column {t.pos + 1}")
             self.take()
             return Centroid(tuple(items))
         raise self.fail("a word, a number, '(' or '{'")

@@ -184,7 +184,9 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
             raise UnreadableFileError(str(p), f"a header ({count} {dims}) but no vectors", line=2)
         sec_tokens = second.split()
         if len(sec_tokens) == dims + 1 and _looks_like_floats(sec_tokens[1:]):
-            return Detected(p, "word2vec-text", compression, dims, count, trailing_space=second.endswith(b" "))
+            return Detected(
+                p, "word2vec-text", compression, dims, count, trailing_space=second.endswith(b" ")
+            )
         if len(sec_tokens) == 2 and _looks_like_floats(sec_tokens[1:]) and dims != 1:
             # Two integers then rows of one value: the "header" was a one-dimensional row of a headerless file.
             return Detected(p, "glove-text", compression, 1, None, trailing_space=first.endswith(b" "))
@@ -197,7 +199,9 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
             )
         return Detected(p, "word2vec-binary", compression, dims, count)
     if len(tokens) >= 2 and _looks_like_floats(tokens[1:]):
-        return Detected(p, "glove-text", compression, len(tokens) - 1, None, trailing_space=first.endswith(b" "))
+        return Detected(
+            p, "glove-text", compression, len(tokens) - 1, None, trailing_space=first.endswith(b" ")
+        )
     if len(tokens) == 1 and len(lines) > 1:
         raise UnreadableFileError(str(p), "a word with no values after it", line=1)
     raise UnreadableFileError(
@@ -208,7 +212,9 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
     )
 
 
-def read_batches(det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536) -> Iterator[Batch]:
+def read_batches(
+    det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536
+) -> Iterator[Batch]:
     """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line."""
     from . import read_binary, read_other, read_text
 

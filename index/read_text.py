@@ -14,6 +14,7 @@ import lzma
 import math
 import zlib
 from collections.abc import Iterator
+
 import numpy as np
 
 from .errors import UnreadableFileError
@@ -72,7 +73,10 @@ def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> It
                 delimiter=" ", quote_char=False, escape_char=False, ignore_empty_lines=False
             ),
             convert_options=pcsv.ConvertOptions(
-                column_types=types, null_values=[], strings_can_be_null=False, quoted_strings_can_be_null=False
+                column_types=types,
+                null_values=[],
+                strings_can_be_null=False,
+                quoted_strings_can_be_null=False,
             ),
         )
         row = 0
@@ -111,7 +115,9 @@ def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> It
         raw.close()
 
 
-def _careful(det: Detected, progress: ProgressFn | None, skip_rows: int, bad_utf8: list[int]) -> Iterator[Batch]:
+def _careful(
+    det: Detected, progress: ProgressFn | None, skip_rows: int, bad_utf8: list[int]
+) -> Iterator[Batch]:
     """Line-by-line reader: any whitespace between fields; blank lines skipped; precise errors."""
     path = str(det.path)
     dims = det.dims
@@ -181,20 +187,26 @@ def _to_batch(
     return Batch(decode_words(words, det.warnings, bad_utf8), vec, start_row)
 
 
-def _locate_bad_value(path: str, det: Detected, start_row: int, words: list[bytes], values: list[list[bytes]]) -> None:
+def _locate_bad_value(
+    path: str, det: Detected, start_row: int, words: list[bytes], values: list[list[bytes]]
+) -> None:
     """Find the first value in this batch that is not a finite number and raise an error naming its line."""
     for i, vals in enumerate(values):
         for j, v in enumerate(vals):
             try:
                 x = float(v)
             except ValueError:
-                problem = f"value {j + 1} of {det.dims} is not a number: {v.decode('utf-8', 'replace')[:40]!r}"
+                problem = (
+                    f"value {j + 1} of {det.dims} is not a number: {v.decode('utf-8', 'replace')[:40]!r}"
+                )
             else:
                 if math.isfinite(x) and abs(x) <= FLOAT32_MAX:
                     continue
                 problem = f"value {j + 1} of {det.dims} is {v.decode('utf-8', 'replace')[:40]!r}, not a finite number"
             line, col = _find_line(det, start_row + i, j)
-            raise UnreadableFileError(path, problem, line=line, column=col, word=words[i].decode("utf-8", "replace"))
+            raise UnreadableFileError(
+                path, problem, line=line, column=col, word=words[i].decode("utf-8", "replace")
+            )
     raise UnreadableFileError(path, "a value could not be read as a number")
 
 

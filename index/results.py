@@ -57,7 +57,11 @@ class CalcResult:
             "results": [{"rank": r.rank, "word": r.word, "similarity": r.similarity} for r in self.results],
         }
         if self.target is not None:
-            out["target"] = {"word": self.target, "rank": self.target_rank, "similarity": self.target_similarity}
+            out["target"] = {
+                "word": self.target,
+                "rank": self.target_rank,
+                "similarity": self.target_similarity,
+            }
         return out
 
 

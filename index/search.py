@@ -61,7 +61,12 @@ def exact_top(
 
 
 def rerank(
-    vs: VectorSet, q: NDArray[np.float32], cands: NDArray[np.int64], k: int, exclude: Sequence[int], top: int | None = None
+    vs: VectorSet,
+    q: NDArray[np.float32],
+    cands: NDArray[np.int64],
+    k: int,
+    exclude: Sequence[int],
+    top: int | None = None,
 ) -> tuple[NDArray[np.int64], NDArray[np.float32]]:
     """Exact cosines for candidate rows, best ``k`` first, skipping ``exclude``, zero rows and rows >= ``top``."""
     if len(cands) == 0:
@@ -127,11 +132,30 @@ def neighbours(
     if vs.is_zero(r):
         return NeighbourResult(word, k, "exact", (), top, (time.perf_counter() - t0) * 1000)
     rows, scores, used = top_for_vector(vs, q, k, [r], ann=ann, mode=mode, top=top)
-    res = tuple(Neighbour(i + 1, vs.words[int(row)], float(s)) for i, (row, s) in enumerate(zip(rows, scores, strict=True)))
+    res = tuple(
+        Neighbour(i + 1, vs.words[int(row)], float(s))
+        for i, (row, s) in enumerate(zip(rows, scores, strict=True))
+    )
     return NeighbourResult(word, k, used, res, top, (time.perf_counter() - t0) * 1000)
 
 
-def rank_of(vs: VectorSet, q: NDArray[np.float32], target: int, exclude: Sequence[int] = (), top: int | None = None) -> int | None:
+def mutual(vs: VectorSet, query_row: int, rows: Sequence[int], k: int) -> list[bool]:
+    """For each of ``rows``: is ``query_row`` among that row's ``k`` nearest neighbours? One pass over the matrix."""
+    if not len(rows):
+        return []
+    r = np.asarray(rows, dtype=np.int64)
+    s = np.asarray(vs.unit @ vs.unit[r].T)  # (n_words, len(rows))
+    if len(vs.zero_rows):
+        s[vs.zero_rows] = -np.inf
+    s[r, np.arange(len(r))] = -np.inf  # a word is not its own neighbour
+    t = s[query_row]
+    better = np.count_nonzero(s > t[None, :], axis=0)
+    return [bool(b < k) for b in better]
+
+
+def rank_of(
+    vs: VectorSet, q: NDArray[np.float32], target: int, exclude: Sequence[int] = (), top: int | None = None
+) -> int | None:
     """1-based rank of row ``target`` among all rows by cosine to ``q`` (``exclude`` and zero rows skipped)."""
     if target in exclude or vs.is_zero(target) or (top is not None and target >= top):
         return None

@@ -40,6 +40,7 @@ class VectorSet:
     cache_note: str = ""  # "hit", "built", "rebuilt: <reason>", "off"
     _lookup: dict[str, int] | None = None
     _lookups: int = 0
+    _folded: dict[str, int] | None = None
 
     @property
     def n(self) -> int:
@@ -72,6 +73,18 @@ class VectorSet:
 
     def __contains__(self, word: str) -> bool:
         return self.find(word) is not None
+
+    def find_folded(self, word: str) -> int | None:
+        """Row of ``word``, or of its most frequent case variant (case-insensitive lookup)."""
+        r = self.find(word)
+        if r is not None:
+            return r
+        if self._folded is None:
+            folded: dict[str, int] = {}
+            for i, w in enumerate(self.words):
+                folded.setdefault(w.casefold(), i)
+            self._folded = folded
+        return self._folded.get(word.casefold())
 
     def lookup(self) -> dict[str, int]:
         if self._lookup is None:
@@ -137,7 +150,13 @@ def open_vectors(
 
 
 def _build(
-    det: Detected, dir_: Path, fp: str, size: int, mtime: int, progress: ProgressFn | None, cancel: CancelFn | None
+    det: Detected,
+    dir_: Path,
+    fp: str,
+    size: int,
+    mtime: int,
+    progress: ProgressFn | None,
+    cancel: CancelFn | None,
 ) -> dict[str, Any]:
     t0 = time.perf_counter()
     words: list[str] = []
@@ -160,11 +179,15 @@ def _build(
         if writer is not None:
             writer.close()
     if writer is None or not words:
-        raise UnreadableFileError(str(det.path), "contains no vectors", line=2 if det.header_count is not None else 1)
+        raise UnreadableFileError(
+            str(det.path), "contains no vectors", line=2 if det.header_count is not None else 1
+        )
     warnings = list(det.warnings)
     norms = np.concatenate(norm_parts)
     if det.header_count is not None and det.header_count != len(words) and det.kind != "npy":
-        warnings.append(f"the header says {det.header_count} words but the file has {len(words)}; kept {len(words)}")
+        warnings.append(
+            f"the header says {det.header_count} words but the file has {len(words)}; kept {len(words)}"
+        )
     first: dict[str, int] = {}
     for i, w in enumerate(words):
         first.setdefault(w, i)
@@ -219,7 +242,9 @@ def _map(source: Path, dir_: Path, meta: dict[str, Any], fp: str, cache_dir: Pat
     unit = np.load(dir_ / "matrix.npy", mmap_mode="r")
     norms = np.load(dir_ / "norms.npy", allow_pickle=False)
     zero = np.load(dir_ / "zero_rows.npy", allow_pickle=False)
-    words = cache.decode_words((dir_ / "words.txt").read_bytes(), bool(meta.get("words_escaped")), int(meta["words"]))
+    words = cache.decode_words(
+        (dir_ / "words.txt").read_bytes(), bool(meta.get("words_escaped")), int(meta["words"])
+    )
     if len(words) != unit.shape[0] or len(norms) != unit.shape[0]:
         raise ValueError("words, norms and matrix disagree in length")
     return VectorSet(

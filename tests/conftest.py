@@ -56,13 +56,20 @@ def lee_model(tmp_path_factory: pytest.TempPathFactory):
     return model.wv, paths
 
 
-def run_cli(*args: str, env: dict[str, str] | None = None, timeout: float = 120) -> subprocess.CompletedProcess[str]:
+def run_cli(
+    *args: str, env: dict[str, str] | None = None, timeout: float = 120
+) -> subprocess.CompletedProcess[str]:
     """Run ``wordkin`` in a subprocess, as a user would, and capture its output."""
     e = dict(os.environ)
     if env:
         e.update(env)
     return subprocess.run(
-        [sys.executable, "-m", "console.cli", *args], capture_output=True, text=True, env=e, timeout=timeout, cwd=ROOT
+        [sys.executable, "-m", "console.cli", *args],
+        capture_output=True,
+        text=True,
+        env=e,
+        timeout=timeout,
+        cwd=ROOT,
     )
 
 
@@ -72,7 +79,9 @@ def cli_json(*args: str) -> dict:
     return json.loads(r.stdout)
 
 
-def structured_set(n: int, dims: int, seed: int = 0, clusters: int = 500, sub: int = 20, noise: float = 0.5) -> np.ndarray:
+def structured_set(
+    n: int, dims: int, seed: int = 0, clusters: int = 500, sub: int = 20, noise: float = 0.5
+) -> np.ndarray:
     """Seeded clusters in a low-dimensional subspace plus noise: the structure real embeddings have."""
     rng = np.random.default_rng(seed)
     centres = rng.standard_normal((clusters, sub)).astype(np.float32)

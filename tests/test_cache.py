@@ -45,7 +45,9 @@ def test_modified_source_is_rebuilt(small):
     assert b.cache_note.startswith("rebuilt") and "extra" in b.words
 
 
-@pytest.mark.parametrize("damage", ["truncate-matrix", "edit-meta", "old-version", "drop-words", "garbage-meta"])
+@pytest.mark.parametrize(
+    "damage", ["truncate-matrix", "edit-meta", "old-version", "drop-words", "garbage-meta"]
+)
 def test_damaged_cache_is_rebuilt(small, damage):
     path, cache = small
     a = open_vectors(path, cache_root=cache)

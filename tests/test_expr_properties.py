@@ -11,7 +11,7 @@ ALPHABET = st.characters(codec="utf-8", exclude_categories=("Cs",))
 
 
 @settings(max_examples=600, deadline=None)
-@given(st.text(alphabet=ALPHABET, max_size=60) | st.text(alphabet="ab1.5*+-(){},:?\" ", max_size=40))
+@given(st.text(alphabet=ALPHABET, max_size=60) | st.text(alphabet='ab1.5*+-(){},:?" ', max_size=40))
 def test_any_string_parses_or_fails_with_position(text):
     try:
         tree = parse(text)
@@ -31,7 +31,9 @@ def trees():
         words,
         lambda inner: st.one_of(
             st.builds(Scale, weights, inner),
-            st.lists(st.tuples(st.sampled_from([1, -1]), inner), min_size=2, max_size=4).map(lambda t: Sum(tuple(t))),
+            st.lists(st.tuples(st.sampled_from([1, -1]), inner), min_size=2, max_size=4).map(
+                lambda t: Sum(tuple(t))
+            ),
             st.lists(inner, min_size=1, max_size=3).map(lambda t: Centroid(tuple(t))),
         ),
         max_leaves=8,

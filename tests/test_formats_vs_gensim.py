@@ -27,7 +27,9 @@ def _cases(lee_model):
     ]
 
 
-@pytest.mark.parametrize("case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"])
+@pytest.mark.parametrize(
+    "case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"]
+)
 def test_matrix_equals_gensim(lee_model, case):
     name, path, kw, fmt = _cases(lee_model)[case]
     kv = _gensim(path, **kw)
@@ -41,7 +43,9 @@ def test_matrix_equals_gensim(lee_model, case):
     np.testing.assert_allclose(np.linalg.norm(vs.unit, axis=1), 1.0, atol=1e-5)
 
 
-@pytest.mark.parametrize("case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"])
+@pytest.mark.parametrize(
+    "case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"]
+)
 def test_near_exact_equals_most_similar(lee_model, case):
     name, path, kw, _ = _cases(lee_model)[case]
     kv = _gensim(path, **kw)

@@ -8,20 +8,39 @@ import sys
 
 from .conftest import ROOT, gensim_data, run_cli
 
-ENGINE = ["index", "index.store", "index.search", "index.ann", "index.cache", "index.formats", "index.read_text",
-          "index.read_binary", "index.read_other", "index.suggest"]
+ENGINE = [
+    "index",
+    "index.store",
+    "index.search",
+    "index.ann",
+    "index.cache",
+    "index.formats",
+    "index.read_text",
+    "index.read_binary",
+    "index.read_other",
+    "index.suggest",
+]
 
 
 def _loaded_after(code: str) -> set[str]:
-    out = subprocess.run(
-        [sys.executable, "-c", code + "\nimport sys, json; print(json.dumps(sorted(sys.modules)))"],
-        capture_output=True, text=True, cwd=ROOT, check=True,
-    ).stdout.strip().splitlines()[-1]
+    out = (
+        subprocess.run(
+            [sys.executable, "-c", code + "\nimport sys, json; print(json.dumps(sorted(sys.modules)))"],
+            capture_output=True,
+            text=True,
+            cwd=ROOT,
+            check=True,
+        )
+        .stdout.strip()
+        .splitlines()[-1]
+    )
     return {m.split(".")[0] for m in json.loads(out)}
 
 
 def test_index_imports_no_ui():
-    code = "\n".join(f"import {m}" for m in ENGINE + ["index.expr", "index.analogy", "index.similarity", "index.scoring"])
+    code = "\n".join(
+        f"import {m}" for m in ENGINE + ["index.expr", "index.analogy", "index.similarity", "index.scoring"]
+    )
     loaded = _loaded_after(code)
     assert "textual" not in loaded and "rich" not in loaded
 

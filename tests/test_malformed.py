@@ -28,13 +28,28 @@ V3 = "1.0 0.5 0.25"
 TEXT_CASES = [
     ("empty", b"", 4, ["empty"]),
     ("header-only", b"3 3\n", 4, ["no vectors"]),
-    ("short-row", f"2 3\nharbour {V3}\nquay 1.0 0.5\n".encode(), 4, ["line 3", "quay", "expected 3 values", "found 2"]),
+    (
+        "short-row",
+        f"2 3\nharbour {V3}\nquay 1.0 0.5\n".encode(),
+        4,
+        ["line 3", "quay", "expected 3 values", "found 2"],
+    ),
     ("long-row", f"2 3\nharbour {V3}\nquay {V3} 9\n".encode(), 4, ["line 3", "quay", "found 4"]),
-    ("not-a-number", f"2 3\nharbour {V3}\nquay 1.0 abc 0.5\n".encode(), 4, ["line 3", "column", "quay", "not a number"]),
+    (
+        "not-a-number",
+        f"2 3\nharbour {V3}\nquay 1.0 abc 0.5\n".encode(),
+        4,
+        ["line 3", "column", "quay", "not a number"],
+    ),
     ("nan", f"2 3\nharbour {V3}\nquay 1.0 nan 0.5\n".encode(), 4, ["line 3", "quay", "finite"]),
     ("inf", f"harbour {V3}\nquay 1.0 0.5 -inf\n".encode(), 4, ["line 2", "quay", "finite"]),
     ("garbage", bytes(range(256)) * 4, 4, ["line 1"]),
-    ("header-dims-differ", f"2 4\nharbour {V3}\nquay {V3}\n".encode(), 4, ["line 2", "header", "4 dimensions", "3 values"]),
+    (
+        "header-dims-differ",
+        f"2 4\nharbour {V3}\nquay {V3}\n".encode(),
+        4,
+        ["line 2", "header", "4 dimensions", "3 values"],
+    ),
 ]
 
 
@@ -79,7 +94,11 @@ def test_bad_row_late_in_a_large_file_names_its_line(tmp_path):
         ("count-smaller", f"1 3\nharbour {V3}\nquay {V3}\n".encode(), ["header says 1", "has 2"]),
         ("duplicates", f"3 3\nharbour {V3}\nquay {V3}\nharbour 0 1 0\n".encode(), ["1 duplicate word"]),
         ("zero-row", f"harbour {V3}\nquay 0 0 0\n".encode(), ["1 all-zero vector"]),
-        ("latin1", f"harbour {V3}\n".encode() + b"caf\xe9 " + V3.encode() + b"\n", ["1 words had bytes that are not UTF-8"]),
+        (
+            "latin1",
+            f"harbour {V3}\n".encode() + b"caf\xe9 " + V3.encode() + b"\n",
+            ["1 words had bytes that are not UTF-8"],
+        ),
         ("double-spaces", f"harbour  {V3}\nquay\t{V3}\n".encode(), []),
     ],
 )
@@ -183,7 +202,11 @@ def test_compressed_variants(tmp_path):
     import lzma
 
     text = f"harbour {V3}\nquay 1 0.4 0.3\npier 0 1 0\n".encode()
-    for name, data in (("a.gz", gzip.compress(text)), ("a.bz2", bz2.compress(text)), ("a.xz", lzma.compress(text))):
+    for name, data in (
+        ("a.gz", gzip.compress(text)),
+        ("a.bz2", bz2.compress(text)),
+        ("a.xz", lzma.compress(text)),
+    ):
         f = tmp_path / name
         f.write_bytes(data)
         r = run_cli("near", str(f), "harbour", "--json", "-k", "1", "--no-cache")
@@ -193,7 +216,15 @@ def test_compressed_variants(tmp_path):
 def test_binary_with_spaces_struct(tmp_path):
     # word2vec binary as the C tool writes it: newline after each vector.
     f = tmp_path / "c.bin"
-    body = b"2 2\n" + b"harbour " + struct.pack("<2f", 1, 0) + b"\n" + b"quay " + struct.pack("<2f", 0.9, 0.1) + b"\n"
+    body = (
+        b"2 2\n"
+        + b"harbour "
+        + struct.pack("<2f", 1, 0)
+        + b"\n"
+        + b"quay "
+        + struct.pack("<2f", 0.9, 0.1)
+        + b"\n"
+    )
     f.write_bytes(body)
     r = run_cli("near", str(f), "harbour", "--json", "--no-cache")
     assert r.returncode == 0 and '"quay"' in r.stdout, r.stderr

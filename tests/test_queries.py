@@ -85,9 +85,16 @@ def test_score_pairs_equals_gensim(lee, name, vecs):
     pearson, spearman, oov_pct = kv.evaluate_word_pairs(str(gensim_data(name)), case_insensitive=True)
     got = score_pairs(vs, gensim_data(name), case_fold=True)
     assert 100 * (got.pairs - got.used) / got.pairs == pytest.approx(oov_pct)
-    theirs = [float(kv.similarity(a.upper() if a.upper() in kv.key_to_index else _variant(kv, a),
-                                  b.upper() if b.upper() in kv.key_to_index else _variant(kv, b)))
-              for a, b, _, c in got.details if c is not None]
+    theirs = [
+        float(
+            kv.similarity(
+                a.upper() if a.upper() in kv.key_to_index else _variant(kv, a),
+                b.upper() if b.upper() in kv.key_to_index else _variant(kv, b),
+            )
+        )
+        for a, b, _, c in got.details
+        if c is not None
+    ]
     ours = [c for *_, c in got.details if c is not None]
     np.testing.assert_allclose(ours, theirs, atol=1e-6)
     assert got.pearson == pytest.approx(pearson.statistic, abs=1e-6)

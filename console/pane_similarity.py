@@ -1,0 +1,157 @@
+"""The similarity pane: a word list in, a heat-map of pairwise cosines out, the odd one out marked."""
+
+from __future__ import annotations
+
+import re
+
+from rich.text import Text
+from textual import on, work
+from textual.app import ComposeResult
+from textual.binding import Binding
+from textual.containers import Vertical
+from textual.message import Message
+from textual.widgets import DataTable, Input, Static
+
+from index.errors import UnknownWordError, WordkinError
+from index.results import SimilarityResult
+from index.similarity import similarity
+
+from .safe_text import visible, visible_word
+from .widgets import word_text
+
+# 256-colour ramp from low to high cosine; the number is always printed, so NO_COLOR loses nothing but shade.
+RAMP = [236, 238, 240, 60, 61, 62, 25, 26, 31, 37, 43, 49]
+CELL = 7
+
+
+def shade(v: float) -> str:
+    i = int(round((max(-1.0, min(1.0, v)) + 1) / 2 * (len(RAMP) - 1)))
+    return f"color({RAMP[i]})"
+
+
+def split_words(text: str) -> list[str]:
+    """Words separated by commas (when there is one) or by whitespace; double quotes keep spaces in a word."""
+    if '"' in text:
+        return [a or b for a, b in re.findall(r'"([^"]*)"|([^\s,]+)', text)]
+    parts = text.split(",") if "," in text else text.split()
+    return [p.strip() for p in parts if p.strip()]
+
+
+class SimilarityPane(Vertical):
+    """Pairwise cosines of a word list; move over a cell to see how the two words rank for each other."""
+
+    BINDINGS = [
+        Binding("ctrl+s", "save", "Save to notebook", id="similarity.save"),
+        Binding("escape", "focus_input", "Edit the list", show=False, id="similarity.focus"),
+    ]
+
+    class SimilarityDone(Message):
+        def __init__(self, result: SimilarityResult) -> None:
+            super().__init__()
+            self.result = result
+
+    class SimilarityFailed(Message):
+        def __init__(self, error: WordkinError) -> None:
+            super().__init__()
+            self.error = error
+
+    def __init__(self, **kw) -> None:  # type: ignore[no-untyped-def]
+        super().__init__(**kw)
+        self.result: SimilarityResult | None = None
+
+    def compose(self) -> ComposeResult:
+        yield Input(placeholder="words to compare, e.g.  hotel inn hostel ferry", id="sm-words")
+        yield Static("", id="sm-message", classes="message")
+        yield DataTable(id="sm-table", cursor_type="cell")
+        yield Static("", id="sm-pair", classes="message")
+
+    def action_focus_input(self) -> None:
+        self.query_one("#sm-words", Input).focus()
+
+    def action_save(self) -> None:
+        if self.result is not None:
+            self.app.save_to_notebook(self.result)  # type: ignore[attr-defined]
+
+    @on(Input.Submitted, "#sm-words")
+    def _submitted(self, event: Input.Submitted) -> None:
+        words = [self.app.word_from_display(w) for w in split_words(event.value)]  # type: ignore[attr-defined]
+        if not words:
+            return
+        if self.app.vectors is None:  # type: ignore[attr-defined]
+            self._message(Text("the vectors are still loading…", style="italic"))
+            return
+        self.compare(words)
+
+    @work(
+        thread=True,
+        exclusive=True,
+        exit_on_error=False,
+        group="similarity",
+        description="pairwise similarity",
+    )
+    def compare(self, words: list[str]) -> None:
+        try:
+            res = similarity(self.app.vectors, words)  # type: ignore[attr-defined]
+        except WordkinError as exc:
+            self.post_message(self.SimilarityFailed(exc))
+            return
+        self.post_message(self.SimilarityDone(res))
+
+    def on_similarity_pane_similarity_done(self, msg: SimilarityDone) -> None:
+        res = msg.result
+        self.result = res
+        table = self.query_one("#sm-table", DataTable)
+        table.clear(columns=True)
+        table.add_column(Text(""), key="word")
+        for j, w in enumerate(res.words):
+            table.add_column(Text(visible_word(w)[:CELL], no_wrap=True), key=f"c{j}", width=CELL)
+        for i, w in enumerate(res.words):
+            odd = w == res.odd_one_out
+            label = Text("◆ " if odd else "  ", style="bold magenta")
+            label.append_text(word_text(w, "bold magenta" if odd else "bold"))
+            cells = [label]
+            for j, v in enumerate(res.matrix[i]):
+                style = f"bold white on {shade(v)}" if i != j else "dim"
+                cells.append(Text(f"{v:6.3f}", style=style, justify="right"))
+            table.add_row(*cells, key=f"r{i}")
+        t = Text(f"{len(res.words)} words")
+        if res.odd_one_out is not None:
+            i = res.words.index(res.odd_one_out)
+            t.append("  ·  odd one out: ◆ ")
+            t.append_text(word_text(res.odd_one_out, "bold magenta"))
+            t.append(f" (cosine {res.odd_scores[i]:.3f} to the mean of the others)")
+        self._message(t)
+        table.focus()
+
+    @on(DataTable.CellHighlighted, "#sm-table")
+    def _pair(self, event: DataTable.CellHighlighted) -> None:
+        res = self.result
+        if res is None:
+            return
+        i, j = event.coordinate.row, event.coordinate.column - 1
+        pair = self.query_one("#sm-pair", Static)
+        if j < 0 or i >= len(res.words) or j >= len(res.words) or i == j or not res.pair_ranks:
+            pair.update("")
+            return
+        a, b = res.words[i], res.words[j]
+        t = Text.assemble(
+            word_text(a, "bold"), " · ", word_text(b, "bold"), f": cosine {res.matrix[i][j]:.3f}; "
+        )
+        t.append_text(word_text(b, "bold"))
+        t.append(f" ranks {res.pair_ranks[i][j]} among the neighbours of ")
+        t.append_text(word_text(a, "bold"))
+        t.append(f", and the reverse rank is {res.pair_ranks[j][i]}")
+        pair.update(t)
+
+    def on_similarity_pane_similarity_failed(self, msg: SimilarityFailed) -> None:
+        err = msg.error
+        if isinstance(err, UnknownWordError):
+            t = Text.assemble(word_text(err.word, "bold"), (" is not in the vocabulary", "red"))
+            if err.suggestions:
+                t.append("; close matches: " + ", ".join(visible(s) for s in err.suggestions))
+            self._message(t)
+        else:
+            self._message(Text(visible(err.message), style="bold red"))
+
+    def _message(self, text: Text) -> None:
+        self.query_one("#sm-message", Static).update(text)

@@ -1,0 +1,96 @@
+"""Shared pieces of the console: safe text, similarity bars, vocabulary completion and a results table.
+
+Words from a vector file are untrusted. They are only ever shown as ``rich.text.Text`` objects built from
+``visible(word)``: Text is never parsed as markup, and ``visible`` has replaced every control character.
+"""
+
+from __future__ import annotations
+
+import bisect
+from collections.abc import Sequence
+
+from rich.text import Text
+from textual.suggester import Suggester
+from textual.widgets import DataTable
+
+from index.results import Neighbour
+
+from .safe_text import visible, visible_word
+
+BAR_WIDTH = 16
+_BLOCKS = " ▏▎▍▌▋▊▉█"
+
+
+def word_text(word: str, style: str = "") -> Text:
+    """A word as plain text: no markup, no control characters."""
+    return Text(visible_word(word), style=style, no_wrap=True, overflow="ellipsis")
+
+
+def bar(value: float, width: int = BAR_WIDTH) -> Text:
+    """A horizontal bar for a cosine in [-1, 1]; negative values get an empty bar."""
+    v = max(0.0, min(1.0, value)) * width
+    full = int(v)
+    part = int((v - full) * 8)
+    s = "█" * full + (_BLOCKS[part] if full < width and part else "")
+    return Text(s.ljust(width), style="bold")
+
+
+class VocabSuggester(Suggester):
+    """Completion from the vocabulary by bisection over a sorted list: O(log n) a keystroke, not a scan.
+
+    Most frequent words are preferred among words sharing the prefix only through the sort key's tie order,
+    which keeps this cheap; it suggests the alphabetically first completion.
+    """
+
+    def __init__(self, words: Sequence[str]) -> None:
+        super().__init__(use_cache=True, case_sensitive=True)
+        shown = [visible(w) for w in words if w]
+        self._sorted = sorted(shown)
+
+    async def get_suggestion(self, value: str) -> str | None:
+        if not value:
+            return None
+        i = bisect.bisect_left(self._sorted, value)
+        while i < len(self._sorted):
+            cand = self._sorted[i]
+            if not cand.startswith(value):
+                return None
+            if cand != value:
+                return cand
+            i += 1
+        return None
+
+
+class NeighbourTable(DataTable):
+    """Rank, word, score and a bar; an optional mark column (mutual neighbours)."""
+
+    def on_mount(self) -> None:
+        self.cursor_type = "row"
+        self.zebra_stripes = True
+        self.add_column(Text("rank"), key="rank", width=4)
+        self.add_column(Text("word"), key="word")
+        self.add_column(Text("score"), key="score", width=7)
+        self.add_column(Text(""), key="bar", width=BAR_WIDTH)
+        self.add_column(Text("mutual"), key="mark", width=6)
+
+    def show(self, rows: Sequence[Neighbour], marks: Sequence[bool] | None = None) -> None:
+        self.clear()
+        for i, r in enumerate(rows):
+            mark = Text("")
+            if marks is not None and i < len(marks) and marks[i]:
+                mark = Text("↔", style="bold green")
+            self.add_row(
+                Text(str(r.rank), justify="right"),
+                word_text(r.word),
+                Text(f"{r.similarity:.3f}", justify="right"),
+                bar(r.similarity),
+                mark,
+                key=str(i),
+            )
+        if rows:
+            self.move_cursor(row=0)
+
+    def set_marks(self, marks: Sequence[bool]) -> None:
+        for i, m in enumerate(marks):
+            if i < self.row_count:
+                self.update_cell(str(i), "mark", Text("↔", style="bold green") if m else Text(""))
