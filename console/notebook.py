@@ -179,6 +179,31 @@ def entry_from_result(res: Any, vs: Any, note: str = "") -> Entry:
     raise WordkinError(f"cannot save a {type(res).__name__}")
 
 
+def _create(path: Path) -> None:
+    """Create an empty notebook at ``path`` atomically: built under a temporary name, then hard-linked into place,
+    which fails if another process got there first (then theirs is used). A reader never sees a half-made file."""
+    path.parent.mkdir(parents=True, exist_ok=True)
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.new")
+    try:
+        con = sqlite3.connect(str(tmp), isolation_level=None)
+        try:
+            con.execute("PRAGMA journal_mode=WAL")
+            nb = Notebook(tmp, con)
+            nb._migrate(new=True)
+            con.execute("PRAGMA wal_checkpoint(TRUNCATE)")
+        finally:
+            con.close()
+        try:
+            os.link(tmp, path)
+        except FileExistsError:
+            pass
+    except OSError as exc:
+        raise UnreadableFileError(str(path), f"cannot create the notebook: {exc.strerror or exc}") from None
+    finally:
+        for suffix in ("", "-wal", "-shm"):
+            Path(str(tmp) + suffix).unlink(missing_ok=True)
+
+
 def _check_existing(path: Path) -> None:
     """Raise unless ``path`` is a readable, undamaged wordkin notebook. Never writes to it."""
     try:
@@ -224,13 +249,12 @@ class Notebook:
         cls, path: str | os.PathLike[str] | None = None, *, create: bool = True, readonly: bool = False
     ) -> Notebook:
         p = Path(path) if path is not None else default_path()
-        exists = p.exists()
-        if exists:
-            _check_existing(p)
-        elif not create:
-            raise UnreadableFileError(str(p), "no such notebook")
-        else:
-            p.parent.mkdir(parents=True, exist_ok=True)
+        if not p.exists():
+            if not create:
+                raise UnreadableFileError(str(p), "no such notebook")
+            _create(p)
+        _check_existing(p)
+        exists = True
         try:
             if readonly:
                 con = sqlite3.connect(

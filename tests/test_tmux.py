@@ -1,0 +1,95 @@
+"""The console in a real terminal: tmux on a private socket, polling the screen (no fixed sleeps)."""
+
+from __future__ import annotations
+
+import os
+import shlex
+import shutil
+import subprocess
+import sys
+import time
+import uuid
+
+import numpy as np
+import pytest
+
+from .conftest import ROOT
+
+pytestmark = pytest.mark.skipif(shutil.which("tmux") is None, reason="tmux is not installed")
+
+
+class Tmux:
+    def __init__(self, tmp_path) -> None:
+        self.sock = f"wk-{uuid.uuid4().hex[:8]}"
+        self.tmp = tmp_path
+
+    def tm(self, *args: str) -> str:
+        return subprocess.run(["tmux", "-L", self.sock, *args], capture_output=True, text=True, check=True).stdout
+
+    def start(self, *cli: str) -> None:
+        env = f"WORDKIN_CACHE={shlex.quote(str(self.tmp / 'cache'))} WORDKIN_DATA={shlex.quote(str(self.tmp))}"
+        cmd = " ".join(shlex.quote(c) for c in (sys.executable, "-m", "console.cli", *cli))
+        self.tm("new-session", "-d", "-s", "t", "-x", "80", "-y", "24", "-c", str(ROOT),
+                f"env {env} TERM=xterm-256color {cmd}; echo EXIT=$?; sleep 30")
+
+    def screen(self) -> str:
+        return self.tm("capture-pane", "-t", "t", "-p")
+
+    def keys(self, *keys: str) -> None:
+        self.tm("send-keys", "-t", "t", *keys)
+
+    def wait(self, text: str, timeout: float = 60) -> str:
+        end = time.monotonic() + timeout
+        while time.monotonic() < end:
+            s = self.screen()
+            if text in s:
+                return s
+            time.sleep(0.1)
+        raise AssertionError(f"{text!r} never appeared; screen:\n{self.screen()}")
+
+    def close(self) -> None:
+        subprocess.run(["tmux", "-L", self.sock, "kill-server"], capture_output=True)
+
+
+@pytest.fixture
+def tmux(tmp_path):
+    t = Tmux(tmp_path)
+    yield t
+    t.close()
+
+
+def test_console_in_a_real_terminal(tmux, lee_model):
+    kv, paths = lee_model
+    tmux.start("open", str(paths["text"]))
+    tmux.wait("words")
+    tmux.wait("index ready")
+    word = kv.index_to_key[20]
+    tmux.keys(word, "Enter")
+    expected = [w for w, _ in kv.most_similar(word, topn=5)]
+    screen = tmux.wait(f"neighbours of {word}")
+    for w in expected:
+        assert w in screen, (w, screen)
+    tmux.keys("C-q")
+    tmux.wait("EXIT=0")
+
+
+def test_hostile_words_in_a_real_terminal(tmux, tmp_path):
+    words = ["harbour", "[bold]x[/bold]", "\x1b[31mred", "\x1b]2;pwned\x07t", "\u202eevil", "quay"]
+    rng = np.random.default_rng(3)
+    base = rng.standard_normal(6)
+    path = tmp_path / "hostile.txt"
+    with open(path, "w", encoding="utf-8") as f:
+        for i, w in enumerate(words):
+            v = base + 0.02 * i * rng.standard_normal(6)
+            f.write(w + " " + " ".join(f"{x:.4f}" for x in v) + "\n")
+    tmux.start("open", str(path))
+    tmux.wait("words")
+    title_before = tmux.tm("display-message", "-p", "-t", "t", "#{pane_title}")
+    tmux.keys("harbour", "Enter")
+    screen = tmux.wait("neighbours of harbour")
+    assert "[bold]x[/bold]" in screen
+    assert "\\x1b[31mred" in screen and "\\x1b]2;pwned\\x07t" in screen and "\\u202eevil" in screen
+    assert tmux.tm("display-message", "-p", "-t", "t", "#{pane_title}") == title_before  # no OSC got through
+    tmux.keys("C-q")
+    tmux.wait("EXIT=0")
+    assert os.path.exists(path)
