@@ -92,6 +92,9 @@ def calc(
     target_row = vs.row(target) if target is not None else None
     expr = as_expression(tree)
     used = "exact"
+    if ann is not None and mode != "ann":
+        # Combined vectors use their own measured search_k, or an exact scan where the index is not good enough.
+        ann = ann.for_expressions()
     if method == "add":
         q = unit_query(vector_of(vs, expr))
         top_rows, scores, used = top_for_vector(vs, q, k, exclude, ann=ann, mode=mode, top=top)

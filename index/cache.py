@@ -179,7 +179,8 @@ def validate(
                 return f"{name} is missing"
             if want is not None and p.stat().st_size != want:
                 return f"{name} has {p.stat().st_size} bytes, expected {want}"
-        head = (dir_ / "matrix.npy").read_bytes()[:NPY_HEADER_LEN] if n >= 0 else b""
+        with open(dir_ / "matrix.npy", "rb") as f:
+            head = f.read(NPY_HEADER_LEN)
         if head != npy_header((n, d)):
             return "matrix.npy header does not match meta.json"
     except (KeyError, TypeError, ValueError) as exc:

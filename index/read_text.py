@@ -51,9 +51,16 @@ def _first_line_no(det: Detected) -> int:
     return 2 if det.header_count is not None else 1
 
 
+def _block_size(file_bytes: int) -> int:
+    """pyarrow's reader holds ~40 blocks' worth of memory (measured in tests/bench): 2 MiB blocks keep a 100k x 300
+    set under 1.5x its matrix; larger files amortise that and parse faster with 4 MiB."""
+    return 1 << 21 if file_bytes < 1 << 29 else 1 << 22
+
+
 def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> Iterator[Batch]:
     import pyarrow as pa
     import pyarrow.csv as pcsv
+
 
     dims = det.dims
     ncols = dims + 1 + (1 if det.trailing_space else 0)
@@ -68,7 +75,7 @@ def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> It
             stream.readline()
         reader = pcsv.open_csv(
             stream,
-            read_options=pcsv.ReadOptions(column_names=names, block_size=1 << 23, use_threads=True),
+            read_options=pcsv.ReadOptions(column_names=names, block_size=_block_size(total), use_threads=True),
             parse_options=pcsv.ParseOptions(
                 delimiter=" ", quote_char=False, escape_char=False, ignore_empty_lines=False
             ),

@@ -201,9 +201,12 @@ def _answer_chunk(
     if len(zero):
         s[:, zero] = -np.inf
     k = min(5, s.shape[1])
-    top5 = np.argpartition(-s, k - 1, axis=1)[:, :k]
-    order = np.argsort(-np.take_along_axis(s, top5, axis=1), axis=1, kind="stable")
-    top5 = np.take_along_axis(top5, order, axis=1)
+    # The five best per row by repeated argmax: several times faster than argpartition over 300k columns.
+    top5 = np.empty((len(q), k), dtype=np.int64)
+    for j in range(k):
+        best = np.argmax(s, axis=1)
+        top5[:, j] = best
+        s[r, best] = -np.inf
     f = fid[top5]
     ignored = (f == fid[q[:, 0], None]) | (f == fid[q[:, 1], None]) | (f == fid[q[:, 2], None])
     first_ok = np.where(ignored.all(axis=1), k - 1, np.argmax(~ignored, axis=1))

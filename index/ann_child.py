@@ -1,0 +1,25 @@
+"""The annoy builder run as a child process: ``python -m index.ann_child MATRIX OUT DIMS TREES SEED``.
+
+It reports ``p STAGE DONE TOTAL`` lines and finally ``done`` on stdout. A child can be killed at once, so a cancel or
+a quit never waits for annoy's ``build()``, which cannot be interrupted.
+"""
+
+from __future__ import annotations
+
+import sys
+
+
+def main() -> None:
+    from .ann import _add_and_build
+
+    matrix, out, dims, trees, seed = sys.argv[1], sys.argv[2], int(sys.argv[3]), int(sys.argv[4]), int(sys.argv[5])
+
+    def report(stage: str, done: int, total: int) -> None:
+        print(f"p {stage.replace(' ', '_')} {done} {total}", flush=True)
+
+    _add_and_build(matrix, out, dims, trees, seed, report)
+    print("done", flush=True)
+
+
+if __name__ == "__main__":
+    main()

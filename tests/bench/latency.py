@@ -1,0 +1,75 @@
+"""In-process latency on one set: neighbours (index + exact re-rank vs exact scan vs gensim) and analogies.
+
+Usage: python -m tests.bench.latency TEXT_FILE GENSIM_NATIVE_KV   (prints one JSON line)
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+import time
+
+import numpy as np
+
+
+def main() -> None:
+    from gensim.models import KeyedVectors
+
+    from index import ann
+    from index.analogy import calc
+    from index.search import exact_top, neighbours
+    from index.store import open_vectors
+
+    vs = open_vectors(sys.argv[1])
+    idx = ann.load(vs)
+    assert idx is not None, "run wordkin prepare first"
+    kv = KeyedVectors.load(sys.argv[2], mmap="r")
+    kv.fill_norms()
+    rng = np.random.default_rng(2024)
+    qs = rng.choice(vs.n, 400, replace=False)
+    np.asarray(vs.unit).sum()  # warm the page cache for both sides alike
+    np.asarray(kv.vectors).sum()
+    t_ann, t_ex, t_gen, hits = [], [], [], 0
+    for r in qs:
+        w = vs.words[int(r)]
+        t0 = time.perf_counter()
+        res = neighbours(vs, w, 10, ann=idx, mode="ann")
+        t_ann.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        rows, _ = exact_top(vs, np.asarray(vs.unit[r]), 10, [int(r)])
+        t_ex.append(time.perf_counter() - t0)
+        t0 = time.perf_counter()
+        kv.most_similar(w, topn=10)
+        t_gen.append(time.perf_counter() - t0)
+        hits += len({vs.words[int(x)] for x in rows} & {n.word for n in res.results})
+    c_ann, c_gen, agree = [], [], 0
+    triples = rng.choice(vs.n, (200, 3), replace=False) if vs.n >= 600 else rng.choice(vs.n, (200, 3))
+    for a, b, c in triples:
+        wa, wb, wc = (vs.words[int(x)] for x in (a, b, c))
+        t0 = time.perf_counter()
+        got = calc(vs, f"{wb} - {wa} + {wc}", 10, ann=idx)
+        c_ann.append(time.perf_counter() - t0)
+        exact = calc(vs, f"{wb} - {wa} + {wc}", 1, mode="exact")
+        agree += got.results[0].word == exact.results[0].word
+        t0 = time.perf_counter()
+        kv.most_similar(positive=[wb, wc], negative=[wa], topn=10)
+        c_gen.append(time.perf_counter() - t0)
+    ms = lambda xs, q=50: float(np.percentile(xs, q) * 1000)  # noqa: E731
+    print(
+        json.dumps(
+            {
+                "ann_p50": ms(t_ann),
+                "ann_p99": ms(t_ann, 99),
+                "exact_p50": ms(t_ex),
+                "gensim_p50": ms(t_gen),
+                "recall": hits / (10 * len(qs)),
+                "calc_p50": ms(c_ann),
+                "gensim_calc_p50": ms(c_gen),
+                "calc_agree": agree / len(triples),
+            }
+        )
+    )
+
+
+if __name__ == "__main__":
+    main()
