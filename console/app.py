@@ -26,6 +26,7 @@ from .pane_notebook import NotebookPane
 from .pane_similarity import SimilarityPane
 from .safe_text import visible
 from .status_line import StatusLine
+from .widgets import completion_list
 
 
 class WordkinApp(App[int]):
@@ -54,9 +55,9 @@ class WordkinApp(App[int]):
             return isinstance(message, WordkinApp.LoadProgress)
 
     class VectorsLoaded(Message):
-        def __init__(self, vectors: VectorSet, escaped: dict[str, str]) -> None:
+        def __init__(self, vectors: VectorSet, escaped: dict[str, str], completion: list[str]) -> None:
             super().__init__()
-            self.vectors, self.escaped = vectors, escaped
+            self.vectors, self.escaped, self.completion = vectors, escaped, completion
 
     class LoadFailed(Message):
         def __init__(self, error: WordkinError) -> None:
@@ -139,12 +140,13 @@ class WordkinApp(App[int]):
                 v = visible(w)
                 if v != w:
                     escaped[v] = w
+            completion = completion_list(vs.words)
         except CancelledError:
             return
         except WordkinError as exc:
             self.post_message(self.LoadFailed(exc))
             return
-        self.post_message(self.VectorsLoaded(vs, escaped))
+        self.post_message(self.VectorsLoaded(vs, escaped, completion))
 
     def on_wordkin_app_load_progress(self, msg: LoadProgress) -> None:
         status = self.query_one(StatusLine)
@@ -160,7 +162,7 @@ class WordkinApp(App[int]):
         status.summary = f"· {vs.n:,} words · {vs.dims} dims"
         status.notice = "; ".join(vs.warnings)[:200]
         status.idle()
-        self.query_one(NeighboursPane).on_vectors_ready(vs.words)
+        self.query_one(NeighboursPane).on_vectors_ready(msg.completion)
         idx = ann_mod.load(vs)
         if idx is not None:
             self.post_message(self.IndexReady(idx))

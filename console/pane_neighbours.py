@@ -83,8 +83,9 @@ class NeighboursPane(Vertical):
         yield Static("", id="nb-message", classes="message")
         yield NeighbourTable(id="nb-table")
 
-    def on_vectors_ready(self, words: list[str]) -> None:
-        self.query_one("#nb-word", Input).suggester = VocabSuggester(words)
+    def on_vectors_ready(self, completion: list[str]) -> None:
+        """``completion``: the sorted displayable vocabulary (built off the UI thread)."""
+        self.query_one("#nb-word", Input).suggester = VocabSuggester(completion)
 
     # -- actions ---------------------------------------------------------------------------------------
 

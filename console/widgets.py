@@ -42,10 +42,10 @@ class VocabSuggester(Suggester):
     which keeps this cheap; it suggests the alphabetically first completion.
     """
 
-    def __init__(self, words: Sequence[str]) -> None:
+    def __init__(self, sorted_shown: Sequence[str]) -> None:
+        """``sorted_shown``: the vocabulary as displayed (``visible``), sorted; see ``completion_list``."""
         super().__init__(use_cache=True, case_sensitive=True)
-        shown = [visible(w) for w in words if w]
-        self._sorted = sorted(shown)
+        self._sorted = sorted_shown
 
     async def get_suggestion(self, value: str) -> str | None:
         if not value:
@@ -59,6 +59,11 @@ class VocabSuggester(Suggester):
                 return cand
             i += 1
         return None
+
+
+def completion_list(words: Sequence[str]) -> list[str]:
+    """The sorted, displayable vocabulary for ``VocabSuggester``: slow for big sets, so built in the load worker."""
+    return sorted(visible(w) for w in words if w)
 
 
 class NeighbourTable(DataTable):

@@ -333,7 +333,10 @@ def choose_search_k(
     ok[vs.zero_rows] = False
     pool = np.flatnonzero(ok)
     sample = rng.choice(pool, size=min(RECALL_SAMPLE, len(pool)), replace=False)
-    truth = [set(exact_top(vs, vs.unit[i], k, exclude=[int(i)])[0].tolist()) for i in sample]
+    truth = []
+    for i in sample:
+        time.sleep(0)
+        truth.append(set(exact_top(vs, vs.unit[i], k, exclude=[int(i)])[0].tolist()))
     best = (SEARCH_K_LADDER[-1], 0.0, 0.0)
     for sk in SEARCH_K_LADDER:
         if cancel is not None and cancel():
@@ -342,6 +345,7 @@ def choose_search_k(
         hits = 0
         times = []
         for i, t in zip(sample, truth, strict=True):
+            time.sleep(0)  # let a console's UI thread run between samples
             t1 = time.perf_counter()
             rows, _ = ann_top(vs, ann, vs.unit[i], k, exclude=[int(i)])
             times.append(time.perf_counter() - t1)
@@ -379,6 +383,7 @@ def choose_calc_search_k(
     queries = [unit_query(np.asarray(vs.unit[b] - vs.unit[a] + vs.unit[c], dtype=np.float32)) for a, b, c in triples]
     truth, t_exact = [], []
     for (a, b, c), q in zip(triples, queries, strict=True):
+        time.sleep(0)
         t0 = time.perf_counter()
         rows, _ = exact_top(vs, q, 1, [int(a), int(b), int(c)])
         t_exact.append(time.perf_counter() - t0)
@@ -391,6 +396,7 @@ def choose_calc_search_k(
         sk = search_k * mult
         agree, times = 0, []
         for (a, b, c), q, want in zip(triples, queries, truth, strict=True):
+            time.sleep(0)
             t0 = time.perf_counter()
             cands = np.asarray(idx.get_nns_by_vector(q, 23, search_k=sk), dtype=np.int64)
             rows, _ = rerank(vs, q, cands, 1, [int(a), int(b), int(c)])

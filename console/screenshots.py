@@ -1,0 +1,55 @@
+"""Regenerate the README's screenshots: ``python -m console.screenshots [OUT_DIR]``.
+
+Drives the console on the demo set with Pilot at 80x24 and saves each pane with the app's own SVG export.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import sys
+import tempfile
+from pathlib import Path
+
+OUT = Path(__file__).resolve().parent / "screenshots"
+
+
+async def shoot(out: Path) -> list[Path]:
+    from demo_vectors import demo_path
+
+    from .app import create_app
+
+    out.mkdir(parents=True, exist_ok=True)
+    nb = Path(tempfile.mkdtemp()) / "demo.wkn"
+    app = create_app(str(demo_path()), notebook=str(nb))
+    saved = []
+    async with app.run_test(size=(80, 24)) as pilot:
+        while app.ann is None and app.index_state.value not in ("failed",):
+            await pilot.pause(0.1)
+
+        async def save(name: str) -> None:
+            await pilot.pause(0.4)
+            saved.append(Path(app.save_screenshot(filename=f"{name}.svg", path=str(out))))
+
+        await pilot.press(*"harbour", "enter")
+        await save("neighbours")
+        await pilot.press("ctrl+s")
+        await pilot.press("f3", *"hotel : hotels :: ferry : ?", "enter")
+        await save("arithmetic")
+        await pilot.press("ctrl+s")
+        await pilot.press("f4", *"hotel inn hostel cottage ferry", "enter")
+        await pilot.pause(0.3)
+        await pilot.press("right", "right")
+        await save("similarity")
+        await pilot.press("ctrl+s", "f5")
+        await save("notebook")
+    return saved
+
+
+def main() -> None:
+    out = Path(sys.argv[1]) if len(sys.argv) > 1 else OUT
+    for p in asyncio.run(shoot(out)):
+        print(p)
+
+
+if __name__ == "__main__":
+    main()
