@@ -131,7 +131,7 @@ class WordkinApp(App[int]):
                 cache_root=self.cache,
                 use_cache=self.use_cache,
                 trust_pickle=self.trust_pickle,
-                progress=lambda d, t, s: self.post_message(self.LoadProgress(d, t, s)),
+                progress=self._report_load,
                 cancel=lambda: worker.is_cancelled,
             )
             vs.lookup()
@@ -147,6 +147,12 @@ class WordkinApp(App[int]):
             self.post_message(self.LoadFailed(exc))
             return
         self.post_message(self.VectorsLoaded(vs, escaped, completion))
+
+    def _report_load(self, done: int, total: int, stage: str) -> None:
+        self.post_message(self.LoadProgress(done, total, stage))
+
+    def _report_index(self, done: int, total: int, stage: str) -> None:
+        self.post_message(self.IndexProgress(done, total, stage))
 
     def on_wordkin_app_load_progress(self, msg: LoadProgress) -> None:
         status = self.query_one(StatusLine)
@@ -188,7 +194,7 @@ class WordkinApp(App[int]):
         try:
             idx = ann_mod.build(
                 self.vectors,
-                progress=lambda d, t, s: self.post_message(self.IndexProgress(d, t, s)),
+                progress=self._report_index,
                 cancel=lambda: worker.is_cancelled,
             )
         except CancelledError:

@@ -70,7 +70,9 @@ def text_entry(e: Entry, number: int) -> str:
     ]
     note = e.note.strip()
     if note:
-        lines = [visible(x) for x in note.splitlines()] or [""]
+        import textwrap
+
+        lines = [w for x in note.splitlines() for w in (textwrap.wrap(visible(x), 56) or [""])] or [""]
         out.append(f"    note        {lines[0]}")
         out.extend(f"                {x}" for x in lines[1:])
     out.append("")

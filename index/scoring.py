@@ -249,7 +249,7 @@ def score_pairs(vs: VectorSet, path: str | Path, *, top: int = 300_000, case_fol
     ok, _ = vocabulary(vs, top, case_fold)
     gold: list[float] = []
     model: list[float] = []
-    details = []
+    details: list[tuple[str, str, float, float | None]] = []
     for _no, a, b, human in pairs:
         ka, kb = (a.upper(), b.upper()) if case_fold else (a, b)
         ra, rb = ok.get(ka), ok.get(kb)

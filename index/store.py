@@ -122,12 +122,12 @@ def open_vectors(
     final = root / key
     note = "built"
     if final.is_dir():
-        meta = cache.read_meta(final)
-        reason = cache.validate(final, meta, src, fp, size, mtime)
+        found = cache.read_meta(final)
+        reason = cache.validate(final, found, src, fp, size, mtime)
         if reason is None:
-            assert meta is not None
+            assert found is not None
             try:
-                vs = _map(src, final, meta, fp, final)
+                vs = _map(src, final, found, fp, final)
                 vs.cache_note = "hit"
                 return vs
             except (OSError, ValueError) as exc:
