@@ -184,9 +184,7 @@ class WordkinApp(App[int]):
         status.idle()
         status.mode = "not loaded"
         status.notice = msg.error.message
-        self.notify(
-            visible(msg.error.message), title=msg.error.title, severity="error", timeout=30, markup=False
-        )
+        self.notify(visible(msg.error.message), title=msg.error.title, severity="error", timeout=30, markup=False)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="index", description="build annoy index")
     def build_ann(self) -> None:

@@ -16,13 +16,9 @@ from .safe_text import visible
 
 
 def _shared(p: argparse.ArgumentParser) -> None:
-    p.add_argument(
-        "--cache", metavar="DIR", help="cache directory (default: $WORDKIN_CACHE or the user cache dir)"
-    )
+    p.add_argument("--cache", metavar="DIR", help="cache directory (default: $WORDKIN_CACHE or the user cache dir)")
     p.add_argument("--no-cache", action="store_true", help="parse the file and keep nothing on disk")
-    p.add_argument(
-        "--trust-pickle", action="store_true", help="allow loading a pickled gensim model (runs its code)"
-    )
+    p.add_argument("--trust-pickle", action="store_true", help="allow loading a pickled gensim model (runs its code)")
     p.add_argument("--debug", action="store_true", help="show a traceback on unexpected errors")
 
 
@@ -32,9 +28,7 @@ def _save_opts(p: argparse.ArgumentParser) -> None:
 
 
 def build_parser() -> argparse.ArgumentParser:
-    ap = argparse.ArgumentParser(
-        prog="wordkin", description="Look inside word-vector sets from the terminal."
-    )
+    ap = argparse.ArgumentParser(prog="wordkin", description="Look inside word-vector sets from the terminal.")
     sub = ap.add_subparsers(dest="cmd", required=True, metavar="COMMAND")
 
     p = sub.add_parser("demo", help="console on the bundled demo set")

@@ -150,9 +150,7 @@ def _print_info(d: dict[str, Any]) -> None:
             f"recall@10 {idx['recall_at_10']:.3f} (measured against exact search)"
         )
     else:
-        lines.append(
-            f"index    {idx['state']} (queries are answered by exact search; `wordkin prepare` builds it)"
-        )
+        lines.append(f"index    {idx['state']} (queries are answered by exact search; `wordkin prepare` builds it)")
     sys.stdout.write("\n".join(lines) + "\n")
 
 

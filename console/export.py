@@ -140,16 +140,12 @@ def to_markdown(entries: list[Entry], source: str, exported: str) -> str:
         out.append("")
         if e.kind in ("neighbours", "arithmetic"):
             out += [f"| rank | word | {_score_label(e)} |", "| ---: | --- | ---: |"]
-            out += [
-                f"| {r['rank']} | {md_cell(r['word'])} | {r['similarity']:.3f} |" for r in e.result["rows"]
-            ]
+            out += [f"| {r['rank']} | {md_cell(r['word'])} | {r['similarity']:.3f} |" for r in e.result["rows"]]
             if e.result.get("excluded"):
                 out += ["", "Excluded: " + ", ".join(md_cell(x) for x in e.result["excluded"]) + "."]
             t = e.result.get("target")
             if t:
-                where = (
-                    "excluded" if t.get("rank") is None else f"rank {t['rank']}, score {t['similarity']:.3f}"
-                )
+                where = "excluded" if t.get("rank") is None else f"rank {t['rank']}, score {t['similarity']:.3f}"
                 out += ["", f"Expected answer {md_cell(t['word'])}: {where}."]
         else:
             words = e.query["words"]
@@ -205,9 +201,7 @@ def to_csv(entries: list[Entry]) -> str:
             for i, a in enumerate(words):
                 for j, b in enumerate(words):
                     if i < j:
-                        w.writerow(
-                            base + ["", csv_cell(a), csv_cell(b), f"{e.result['matrix'][i][j]:.6f}", note]
-                        )
+                        w.writerow(base + ["", csv_cell(a), csv_cell(b), f"{e.result['matrix'][i][j]:.6f}", note])
     return buf.getvalue()
 
 

@@ -212,14 +212,10 @@ def _check_existing(path: Path) -> None:
     except OSError as exc:
         raise UnreadableFileError(str(path), f"cannot read the notebook: {exc.strerror or exc}") from None
     if not head.startswith(SQLITE_MAGIC):
-        raise UnreadableFileError(
-            str(path), "is not a wordkin notebook (not an SQLite database); left untouched"
-        )
+        raise UnreadableFileError(str(path), "is not a wordkin notebook (not an SQLite database); left untouched")
     app_id = int.from_bytes(head[68:72], "big")
     if app_id != APPLICATION_ID:
-        raise UnreadableFileError(
-            str(path), "is an SQLite database but not a wordkin notebook; left untouched"
-        )
+        raise UnreadableFileError(str(path), "is an SQLite database but not a wordkin notebook; left untouched")
     try:
         con = sqlite3.connect(f"{path.resolve().as_uri()}?mode=ro", uri=True, timeout=10)
         try:
@@ -232,9 +228,7 @@ def _check_existing(path: Path) -> None:
     if ok != "ok":
         raise UnreadableFileError(str(path), f"the notebook is damaged ({ok}); left untouched")
     if version > SCHEMA_VERSION:
-        raise UnreadableFileError(
-            str(path), f"was written by a newer wordkin (schema {version}); left untouched"
-        )
+        raise UnreadableFileError(str(path), f"was written by a newer wordkin (schema {version}); left untouched")
 
 
 class Notebook:
@@ -257,9 +251,7 @@ class Notebook:
         exists = True
         try:
             if readonly:
-                con = sqlite3.connect(
-                    f"{p.resolve().as_uri()}?mode=ro", uri=True, timeout=30, isolation_level=None
-                )
+                con = sqlite3.connect(f"{p.resolve().as_uri()}?mode=ro", uri=True, timeout=30, isolation_level=None)
             else:
                 con = sqlite3.connect(str(p), timeout=30, isolation_level=None)
                 con.execute("PRAGMA journal_mode=WAL")
@@ -408,24 +400,18 @@ class Notebook:
 
     def set_note(self, entry_id: int, note: str) -> None:
         self._write(
-            lambda: self.con.execute(
-                "UPDATE entries SET note = ?, updated = ? WHERE id = ?", (note, now(), entry_id)
-            )
+            lambda: self.con.execute("UPDATE entries SET note = ?, updated = ? WHERE id = ?", (note, now(), entry_id))
         )
 
     def delete(self, entry_id: int) -> None:
         """Soft delete: ``undelete`` brings it back (the console's undo)."""
         self._write(
-            lambda: self.con.execute(
-                "UPDATE entries SET deleted = 1, updated = ? WHERE id = ?", (now(), entry_id)
-            )
+            lambda: self.con.execute("UPDATE entries SET deleted = 1, updated = ? WHERE id = ?", (now(), entry_id))
         )
 
     def undelete(self, entry_id: int) -> None:
         self._write(
-            lambda: self.con.execute(
-                "UPDATE entries SET deleted = 0, updated = ? WHERE id = ?", (now(), entry_id)
-            )
+            lambda: self.con.execute("UPDATE entries SET deleted = 0, updated = ? WHERE id = ?", (now(), entry_id))
         )
 
     def move(self, entry_id: int, offset: int) -> None:
@@ -434,9 +420,7 @@ class Notebook:
         def step() -> None:
             ids = [
                 r[0]
-                for r in self.con.execute(
-                    "SELECT id FROM entries WHERE deleted = 0 ORDER BY position, id"
-                ).fetchall()
+                for r in self.con.execute("SELECT id FROM entries WHERE deleted = 0 ORDER BY position, id").fetchall()
             ]
             if entry_id not in ids:
                 return

@@ -16,9 +16,7 @@ def rerun(entry: Entry, vs: Any, ann: Any = None) -> Entry:
 
         p = entry.params
         mode = "exact" if p.get("mode") == "exact" else "auto"
-        res: Any = neighbours(
-            vs, entry.query["word"], int(p.get("k", 10)), ann=ann, top=p.get("top"), mode=mode
-        )
+        res: Any = neighbours(vs, entry.query["word"], int(p.get("k", 10)), ann=ann, top=p.get("top"), mode=mode)
     elif entry.kind == "arithmetic":
         from index.analogy import calc
 
@@ -83,9 +81,7 @@ def diff_text(d: Diff, old_set: dict[str, Any], new_set: dict[str, Any]) -> str:
     head = (
         "re-run on the same vector set"
         if same_set
-        else (
-            f"re-run on {visible(str(new_set.get('path')))} (saved from {visible(str(old_set.get('path')))})"
-        )
+        else (f"re-run on {visible(str(new_set.get('path')))} (saved from {visible(str(old_set.get('path')))})")
     )
     lines = [head]
     if not d.changed:
@@ -99,8 +95,7 @@ def diff_text(d: Diff, old_set: dict[str, Any], new_set: dict[str, Any]) -> str:
         lines.append("moved:  " + ", ".join(f"{visible(w)} #{a}→#{b}" for w, a, b in d.moved))
     if d.cells:
         lines.append(
-            "changed cosines: "
-            + ", ".join(f"{visible(a)}·{visible(b)} {o:.3f}→{n:.3f}" for a, b, o, n in d.cells)
+            "changed cosines: " + ", ".join(f"{visible(a)}·{visible(b)} {o:.3f}→{n:.3f}" for a, b, o, n in d.cells)
         )
     lines.append(f"unchanged: {d.same}")
     return "\n".join(lines)

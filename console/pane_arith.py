@@ -12,12 +12,12 @@ from textual.message import Message
 from textual.widgets import Input, Label, Select, Static
 
 from index.analogy import calc
-from index.errors import UnknownWordError, WordkinError
+from index.errors import WordkinError
 from index.expr import ExprError, parse, words_of
 from index.results import CalcResult
 
 from .safe_text import visible
-from .widgets import NeighbourTable, word_text
+from .widgets import NeighbourTable, error_text, word_text
 
 
 class ArithmeticPane(Vertical):
@@ -48,9 +48,7 @@ class ArithmeticPane(Vertical):
         yield Static("", id="ar-check", classes="check")
         with Horizontal(classes="options"):
             yield Label("method")
-            yield Select(
-                [("3CosAdd", "add"), ("3CosMul", "mul")], value="add", allow_blank=False, id="ar-method"
-            )
+            yield Select([("3CosAdd", "add"), ("3CosMul", "mul")], value="add", allow_blank=False, id="ar-method")
             yield Label("k")
             yield Input("10", id="ar-k", type="integer", classes="small")
         yield Static("", id="ar-message", classes="message")
@@ -143,15 +141,7 @@ class ArithmeticPane(Vertical):
         self._message(t)
 
     def on_arithmetic_pane_calc_failed(self, msg: CalcFailed) -> None:
-        err = msg.error
-        if isinstance(err, UnknownWordError) and err.suggestions:
-            t = Text.assemble(
-                word_text(err.word, "bold"), (" is not in the vocabulary; close matches: ", "red")
-            )
-            t.append(", ".join(visible(s) for s in err.suggestions))
-            self._message(t)
-        else:
-            self._message(Text(visible(err.message), style="bold red"))
+        self._message(error_text(msg.error))
 
     def _message(self, text: Text) -> None:
         self.query_one("#ar-message", Static).update(text)

@@ -12,12 +12,12 @@ from textual.containers import Horizontal, Vertical
 from textual.message import Message
 from textual.widgets import Checkbox, DataTable, Input, Label, Static
 
-from index.errors import UnknownWordError, WordkinError
+from index.errors import WordkinError
 from index.results import Neighbour, NeighbourResult
 from index.search import mutual, neighbours
 
 from .safe_text import visible
-from .widgets import NeighbourTable, VocabSuggester, word_text
+from .widgets import NeighbourTable, VocabSuggester, error_text, word_text
 
 
 @dataclass(frozen=True)
@@ -202,18 +202,7 @@ class NeighboursPane(Vertical):
             self.query_one(NeighbourTable).set_marks(msg.marks)
 
     def on_neighbours_pane_query_failed(self, msg: QueryFailed) -> None:
-        err = msg.error
-        if isinstance(err, UnknownWordError):
-            t = Text.assemble(word_text(err.word, "bold"), (" is not in the vocabulary", "red"))
-            if err.suggestions:
-                t.append("; close matches: ")
-                for i, s in enumerate(err.suggestions):
-                    if i:
-                        t.append(", ")
-                    t.append_text(word_text(s, "bold"))
-            self._message(t)
-        else:
-            self._message(Text(visible(err.message), style="bold red"))
+        self._message(error_text(msg.error))
 
     def _message(self, text: Text) -> None:
         self.query_one("#nb-message", Static).update(text)

@@ -92,9 +92,7 @@ class NotebookPane(Vertical):
                 Text(visible(e.note.splitlines()[0] if e.note else ""), no_wrap=True, overflow="ellipsis"),
                 key=str(e.id),
             )
-        head = Text.assemble(
-            ("notebook ", "dim"), (visible(str(where)), "bold"), f"  ·  {len(self.entries)} entries"
-        )
+        head = Text.assemble(("notebook ", "dim"), (visible(str(where)), "bold"), f"  ·  {len(self.entries)} entries")
         self.query_one("#nbk-head", Static).update(head)
         if self.entries:
             row = 0

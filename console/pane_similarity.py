@@ -12,12 +12,12 @@ from textual.containers import Vertical
 from textual.message import Message
 from textual.widgets import DataTable, Input, Static
 
-from index.errors import UnknownWordError, WordkinError
+from index.errors import WordkinError
 from index.results import SimilarityResult
 from index.similarity import similarity
 
-from .safe_text import visible, visible_word
-from .widgets import word_text
+from .safe_text import visible_word
+from .widgets import error_text, word_text
 
 # 256-colour ramp from low to high cosine; the number is always printed, so NO_COLOR loses nothing but shade.
 RAMP = [236, 238, 240, 60, 61, 62, 25, 26, 31, 37, 43, 49]
@@ -134,9 +134,7 @@ class SimilarityPane(Vertical):
             pair.update("")
             return
         a, b = res.words[i], res.words[j]
-        t = Text.assemble(
-            word_text(a, "bold"), " · ", word_text(b, "bold"), f": cosine {res.matrix[i][j]:.3f}; "
-        )
+        t = Text.assemble(word_text(a, "bold"), " · ", word_text(b, "bold"), f": cosine {res.matrix[i][j]:.3f}; ")
         t.append_text(word_text(b, "bold"))
         t.append(f" ranks {res.pair_ranks[i][j]} among the neighbours of ")
         t.append_text(word_text(a, "bold"))
@@ -144,14 +142,7 @@ class SimilarityPane(Vertical):
         pair.update(t)
 
     def on_similarity_pane_similarity_failed(self, msg: SimilarityFailed) -> None:
-        err = msg.error
-        if isinstance(err, UnknownWordError):
-            t = Text.assemble(word_text(err.word, "bold"), (" is not in the vocabulary", "red"))
-            if err.suggestions:
-                t.append("; close matches: " + ", ".join(visible(s) for s in err.suggestions))
-            self._message(t)
-        else:
-            self._message(Text(visible(err.message), style="bold red"))
+        self._message(error_text(msg.error))
 
     def _message(self, text: Text) -> None:
         self.query_one("#sm-message", Static).update(text)

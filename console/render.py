@@ -29,9 +29,7 @@ def neighbour_table(rows: Sequence[Neighbour], title: str = "", score_label: str
 
 def calc_text(res) -> str:  # type: ignore[no-untyped-def]
     what = "cosine" if res.method == "add" else "3CosMul score"
-    out = neighbour_table(
-        res.results, title=f"{res.expression}   [{res.method}, {res.mode}]", score_label=what
-    )
+    out = neighbour_table(res.results, title=f"{res.expression}   [{res.method}, {res.mode}]", score_label=what)
     if res.excluded:
         out += "excluded: " + ", ".join(visible(w) for w in res.excluded) + "\n"
     if res.target is not None:
@@ -74,9 +72,7 @@ def score_text(res) -> str:  # type: ignore[no-untyped-def]
             lines.append(f"{pad(visible(s.name), w)}  {s.answered:>8}  {s.correct:>7}  {acc:>8}")
         acc = "-" if res.accuracy is None else f"{res.accuracy:.3f}"
         lines.append(f"{pad('overall', w)}  {res.answered:>8}  {res.correct:>7}  {acc:>8}")
-        lines.append(
-            f"{res.total - res.answered} of {res.total} questions skipped (a word not in the top {res.top})"
-        )
+        lines.append(f"{res.total - res.answered} of {res.total} questions skipped (a word not in the top {res.top})")
         return "\n".join(lines) + "\n"
     rho = "-" if res.spearman is None else f"{res.spearman:.4f}"
     r = "-" if res.pearson is None else f"{res.pearson:.4f}"

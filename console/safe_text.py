@@ -31,9 +31,7 @@ def visible(text: str) -> str:
     # Anything else non-printable (other Cf/Cc/Cs/Co code points, e.g. lone surrogates).
     if not out.isprintable():
         out = "".join(
-            ch
-            if ch.isprintable() or ch == " "
-            else (f"\\u{ord(ch):04x}" if ord(ch) <= 0xFFFF else f"\\U{ord(ch):08x}")
+            ch if ch.isprintable() or ch == " " else (f"\\u{ord(ch):04x}" if ord(ch) <= 0xFFFF else f"\\U{ord(ch):08x}")
             for ch in out
         )
     return out

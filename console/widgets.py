@@ -13,6 +13,7 @@ from rich.text import Text
 from textual.suggester import Suggester
 from textual.widgets import DataTable
 
+from index.errors import UnknownWordError, WordkinError
 from index.results import Neighbour
 
 from .safe_text import visible, visible_word
@@ -59,6 +60,20 @@ class VocabSuggester(Suggester):
                 return cand
             i += 1
         return None
+
+
+def error_text(err: WordkinError) -> Text:
+    """A query error for a pane's message line; an unknown word lists its close matches."""
+    if isinstance(err, UnknownWordError):
+        t = Text.assemble(word_text(err.word, "bold"), (" is not in the vocabulary", "red"))
+        if err.suggestions:
+            t.append("; close matches: ")
+            for i, s in enumerate(err.suggestions):
+                if i:
+                    t.append(", ")
+                t.append_text(word_text(s, "bold"))
+        return t
+    return Text(visible(err.message), style="bold red")
 
 
 def completion_list(words: Sequence[str]) -> list[str]:
