@@ -293,6 +293,9 @@ class Notebook:
                 out = fn()
                 self.con.execute("COMMIT")
                 return out
+            except sqlite3.OperationalError as exc:
+                self.con.execute("ROLLBACK")
+                raise WordkinError(f"{self.path}: nothing was saved ({exc}); the notebook is unchanged") from None
             except BaseException:
                 self.con.execute("ROLLBACK")
                 raise

@@ -31,6 +31,9 @@ Kind = Literal["word2vec-text", "glove-text", "word2vec-binary", "npy", "pickle"
 
 #: How much decompressed text is sniffed to decide the format.
 SNIFF_BYTES = 1 << 16
+SNIFF_LIMIT = 1 << 26
+#: More dimensions than this is not a word-vector file (published sets have 25 to 1,000).
+MAX_DIMS = 65_536
 PICKLE_SUFFIXES = {".model", ".kv", ".pkl", ".pickle", ".p"}
 FASTTEXT_BIN_MAGIC = (793712314).to_bytes(4, "little")
 
@@ -92,9 +95,16 @@ def read_stream_errors(path: Path, compression: Compression, exc: BaseException)
 
 
 def _sniff(path: Path, compression: Compression) -> bytes:
+    """The start of the decompressed file: at least its first two lines (up to ``SNIFF_LIMIT``)."""
     stream, raw = open_stream(path, compression)
     try:
-        return stream.read(SNIFF_BYTES)
+        data = stream.read(SNIFF_BYTES)
+        while data.count(b"\n") < 2 and len(data) < SNIFF_LIMIT:
+            more = stream.read(SNIFF_BYTES * 16)
+            if not more:
+                break
+            data += more
+        return data
     except (EOFError, OSError, lzma.LZMAError) as exc:
         raise read_stream_errors(path, compression, exc) from None
     finally:
@@ -149,9 +159,7 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
             )
         return Detected(p, "pickle", None, 0, None)
     if head.startswith(FASTTEXT_BIN_MAGIC):
-        raise UnreadableFileError(
-            str(p), "is a fastText .bin model; open its .vec file (word2vec text) instead"
-        )
+        raise UnreadableFileError(str(p), "is a fastText .bin model; open its .vec file (word2vec text) instead")
     if head.startswith(b"\x93NUMPY"):
         words = _words_file_for(p) if p.name.endswith(".npy") else None
         if words is None:
@@ -178,15 +186,17 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
     second = lines[1].rstrip(b"\r") if len(lines) > 1 else b""
     if len(tokens) == 2 and all(_is_int(t) for t in tokens):
         count, dims = int(tokens[0]), int(tokens[1])
+        if dims > MAX_DIMS:
+            raise UnreadableFileError(
+                str(p), f"the header says {dims:,} dimensions; more than {MAX_DIMS:,} is not a word-vector file", line=1
+            )
         if dims == 0:
             raise UnreadableFileError(str(p), "the header says 0 dimensions", line=1)
         if not second.strip() and len(lines) <= 2 and b"\n" not in sample[len(first) :].lstrip(b"\r\n"):
             raise UnreadableFileError(str(p), f"a header ({count} {dims}) but no vectors", line=2)
         sec_tokens = second.split()
         if len(sec_tokens) == dims + 1 and _looks_like_floats(sec_tokens[1:]):
-            return Detected(
-                p, "word2vec-text", compression, dims, count, trailing_space=second.endswith(b" ")
-            )
+            return Detected(p, "word2vec-text", compression, dims, count, trailing_space=second.endswith(b" "))
         if len(sec_tokens) == 2 and _looks_like_floats(sec_tokens[1:]) and dims != 1:
             # Two integers then rows of one value: the "header" was a one-dimensional row of a headerless file.
             return Detected(p, "glove-text", compression, 1, None, trailing_space=first.endswith(b" "))
@@ -198,10 +208,15 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
                 word=sec_tokens[0].decode("utf-8", "replace"),
             )
         return Detected(p, "word2vec-binary", compression, dims, count)
-    if len(tokens) >= 2 and _looks_like_floats(tokens[1:]):
-        return Detected(
-            p, "glove-text", compression, len(tokens) - 1, None, trailing_space=first.endswith(b" ")
+    if len(tokens) - 1 > MAX_DIMS:
+        raise UnreadableFileError(
+            str(p),
+            f"the first line has {len(tokens) - 1:,} values; more than {MAX_DIMS:,} dimensions"
+            " is not a word-vector file",
+            line=1,
         )
+    if len(tokens) >= 2 and _looks_like_floats(tokens[1:]):
+        return Detected(p, "glove-text", compression, len(tokens) - 1, None, trailing_space=first.endswith(b" "))
     if len(tokens) == 1 and len(lines) > 1:
         raise UnreadableFileError(str(p), "a word with no values after it", line=1)
     raise UnreadableFileError(
@@ -212,9 +227,7 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
     )
 
 
-def read_batches(
-    det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536
-) -> Iterator[Batch]:
+def read_batches(det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536) -> Iterator[Batch]:
     """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line."""
     from . import read_binary, read_other, read_text
 
