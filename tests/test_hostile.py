@@ -140,3 +140,45 @@ def test_disk_full_save_reports_and_keeps_earlier_entries(tmp_path):
     nb.close()
     with Notebook.open(tmp_path / "h.wkn") as again:
         assert len(again.entries()) == 1
+
+
+def test_read_only_notebook_save_fails_cleanly(tmp_path):
+    # Root ignores file modes, so a read-only notebook is simulated with SQLite's own read-only open.
+    nb = _hostile_notebook(tmp_path)
+    entry = nb.entries()[0]
+    nb.close()
+    before = (tmp_path / "h.wkn").read_bytes()
+    with Notebook.open(tmp_path / "h.wkn", readonly=True) as ro:
+        assert len(ro.entries()) == 1
+        with pytest.raises(WordkinError, match="nothing was saved"):
+            ro.add(entry)
+    assert (tmp_path / "h.wkn").read_bytes() == before
+
+
+def test_very_long_and_empty_words_in_the_console(tmp_path):
+    import asyncio
+
+    from textual.widgets import DataTable
+
+    from console.app import create_app
+
+    from .test_console import opened, table_words, wait_for
+
+    long_word = "harbour" * 700
+    f = tmp_path / "long.bin"
+    words = [b"harbour", long_word.encode(), b"", b"pier"]
+    vecs = [(1, 0), (0.9, 0.1), (0.8, 0.2), (0.7, 0.3)]
+    f.write_bytes(b"4 2\n" + b"".join(w + b" " + struct.pack("<2f", *v) for w, v in zip(words, vecs, strict=True)))
+
+    async def main():
+        app = create_app(str(f), notebook=str(tmp_path / "nb.wkn"))
+        async with app.run_test(size=(80, 24)) as pilot:
+            await opened(pilot)
+            await pilot.press(*"harbour", "enter")
+            table = app.query_one("#nb-table", DataTable)
+            await wait_for(pilot, lambda: table.row_count == 3)
+            shown = table_words(table)
+            assert '""' in shown and long_word in shown and "pier" in shown
+            assert "harbourharbour" in app.export_screenshot()
+
+    asyncio.run(main())
