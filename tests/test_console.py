@@ -269,3 +269,40 @@ def test_lee_vectors_written_for_console(tmp_path):
     words = [f"w{i}" for i in range(50)]
     p = write_w2v_text(tmp_path / "s.txt", words, np.random.default_rng(0).standard_normal((50, 4)))
     assert KeyedVectors.load_word2vec_format(str(p)).vectors.shape == (50, 4)
+
+
+def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
+    from pathlib import Path
+
+    from index import ann
+
+    from .conftest import structured_set
+
+    n = 30_000
+    np.save(tmp_path / "s.npy", structured_set(n, 32, seed=4))
+    (tmp_path / "s.words.txt").write_text("\n".join(f"w{i}" for i in range(n)) + "\n")
+    monkeypatch.setattr(ann, "IN_PROCESS_BELOW", 0)  # build in child processes, as for large sets
+    monkeypatch.setattr(ann, "default_trees", lambda n_words: 400)  # long enough to quit in the middle
+    cache = tmp_path / "cache"
+
+    async def main():
+        app = create_app(str(tmp_path / "s.npy"), cache=str(cache), notebook=str(tmp_path / "nb.wkn"))
+        async with app.run_test(size=SIZE) as pilot:
+            await wait_for(pilot, lambda: "index:" in app.query_one("StatusLine").mode)
+            t0 = time.monotonic()
+            app.exit()
+        return time.monotonic() - t0
+
+    took = run(main())
+    assert took < 5
+    time.sleep(0.5)
+    left = []
+    for cmdline in Path("/proc").glob("[0-9]*/cmdline"):
+        try:
+            args = cmdline.read_bytes().split(b"\0")
+        except OSError:
+            continue
+        if b"index.ann_child" in args and any(str(cache).encode() in a for a in args):
+            left.append(cmdline)
+    assert left == []
+    assert not list(cache.rglob("*.tmp"))
