@@ -154,11 +154,14 @@ class WordkinApp(App[int]):
     def _report_index(self, done: int, total: int, stage: str) -> None:
         self.post_message(self.IndexProgress(done, total, stage))
 
-    def on_wordkin_app_load_progress(self, msg: LoadProgress) -> None:
+    def _show_progress(self, msg: LoadProgress, prefix: str = "") -> None:
         status = self.query_one(StatusLine)
         pct = f" {100 * msg.done // msg.total}%" if msg.total else ""
-        status.mode = f"{msg.stage}{pct}"
+        status.mode = f"{prefix}{msg.stage}{pct}"
         status.progress(msg.done, msg.total)
+
+    def on_wordkin_app_load_progress(self, msg: LoadProgress) -> None:
+        self._show_progress(msg)
 
     def on_wordkin_app_vectors_loaded(self, msg: VectorsLoaded) -> None:
         vs = msg.vectors
@@ -203,10 +206,7 @@ class WordkinApp(App[int]):
         self.post_message(self.IndexReady(idx))
 
     def on_wordkin_app_index_progress(self, msg: IndexProgress) -> None:
-        status = self.query_one(StatusLine)
-        pct = f" {100 * msg.done // msg.total}%" if msg.total else ""
-        status.mode = f"exact · {msg.stage}{pct}"
-        status.progress(msg.done, msg.total)
+        self._show_progress(msg, "exact · ")
 
     def on_wordkin_app_index_ready(self, msg: IndexReady) -> None:
         self.ann = msg.index

@@ -265,9 +265,7 @@ def import_json(path: str | os.PathLike[str], nb: Notebook) -> int:
         raise UnreadableFileError(str(p), f"an entry is malformed ({exc})") from None
     keep_ids = not nb.entries(include_deleted=True)
     for e in entries:
-        if not keep_ids:
-            e.id = None
-        nb.add_imported(e) if keep_ids else nb.add(e, keep_position=True)
+        nb.add(e, keep_position=True, keep_id=keep_ids)
     return len(entries)
 
 

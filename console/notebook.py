@@ -347,8 +347,8 @@ class Notebook:
 
     # -- writing ---------------------------------------------------------------------------------------
 
-    def add(self, e: Entry, *, keep_position: bool = False) -> int:
-        """Append ``e``; returns its id once the transaction is committed to disk."""
+    def add(self, e: Entry, *, keep_position: bool = False, keep_id: bool = False) -> int:
+        """Append ``e`` (or, importing, keep its position and id); returns its id once committed to disk."""
 
         def step() -> int:
             pos = e.position
@@ -356,36 +356,11 @@ class Notebook:
                 last = self.con.execute("SELECT MAX(position) FROM entries").fetchone()[0]
                 pos = (last or 0.0) + 1.0
             cur = self.con.execute(
-                "INSERT INTO entries (position, kind, query, params, vector_set, result, note, created, updated) "
-                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                (
-                    pos,
-                    e.kind,
-                    _dump(e.query),
-                    _dump(e.params),
-                    _dump(e.vector_set),
-                    _dump(e.result),
-                    e.note,
-                    e.created,
-                    e.updated or e.created,
-                ),
-            )
-            return int(cur.lastrowid or 0)
-
-        entry_id = self._write(step)
-        e.id = entry_id
-        return entry_id
-
-    def add_imported(self, e: Entry) -> int:
-        """Insert an entry with its own id and position (importing into an empty notebook)."""
-
-        def step() -> int:
-            cur = self.con.execute(
                 "INSERT INTO entries (id, position, kind, query, params, vector_set, result, note, created, updated) "
                 "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
                 (
-                    e.id,
-                    e.position,
+                    e.id if keep_id else None,
+                    pos,
                     e.kind,
                     _dump(e.query),
                     _dump(e.params),

@@ -18,7 +18,7 @@ from .ann import AnnIndex
 from .errors import UsageError
 from .expr import Analogy, Centroid, Node, Scale, Sum, Word, parse, signed_words, to_text, words_of
 from .results import CalcResult, Neighbour
-from .search import check_k, check_top, exact_top, rank_of, top_for_vector, unit_query, use_ann
+from .search import best_of, check_k, check_top, exact_top, rank_in, rank_of, top_for_vector, unit_query, use_ann
 from .store import VectorSet
 
 EPSILON = 0.001
@@ -105,9 +105,7 @@ def calc(
     else:
         sw = signed_words(expr)
         if sw is None:
-            raise UsageError(
-                "--method mul takes unweighted + and - words only (no weights, groups or centroids)"
-            )
+            raise UsageError("--method mul takes unweighted + and - words only (no weights, groups or centroids)")
         pos = [vs.row(w) for w in sw[0]]
         neg = [vs.row(w) for w in sw[1]]
         top_rows, scores, used = _mul_top(vs, expr, pos, neg, k, exclude, top, ann, mode, epsilon)
@@ -115,10 +113,9 @@ def calc(
         if target_row is not None:
             all_scores = mul_scores(vs, pos, neg, epsilon=epsilon)
             t_sim = float(all_scores[target_row])
-            t_rank = _rank_in(vs, all_scores, target_row, exclude, top)
+            t_rank = rank_in(vs, all_scores, target_row, exclude, top)
     res = tuple(
-        Neighbour(i + 1, vs.words[int(r)], float(s))
-        for i, (r, s) in enumerate(zip(top_rows, scores, strict=True))
+        Neighbour(i + 1, vs.words[int(r)], float(s)) for i, (r, s) in enumerate(zip(top_rows, scores, strict=True))
     )
     return CalcResult(
         expression=to_text(tree),
@@ -132,22 +129,6 @@ def calc(
         target_rank=t_rank,
         target_similarity=t_sim,
         elapsed_ms=(time.perf_counter() - t0) * 1000,
-    )
-
-
-def _rank_in(
-    vs: VectorSet, scores: NDArray[np.float32], target: int, exclude: list[int], top: int | None
-) -> int | None:
-    if target in exclude or vs.is_zero(target) or (top is not None and target >= top):
-        return None
-    s = scores if top is None else scores[:top]
-    mask = np.ones(len(s), dtype=bool)
-    mask[[e for e in exclude if e < len(s)]] = False
-    if len(vs.zero_rows):
-        mask[vs.zero_rows[vs.zero_rows < len(s)]] = False
-    t = scores[target]
-    return (
-        int(np.count_nonzero((s > t) & mask)) + int(np.count_nonzero((s[:target] == t) & mask[:target])) + 1
     )
 
 
@@ -172,18 +153,8 @@ def _mul_top(
             order = np.lexsort((cands, -s))[:k]
             return cands[order], s[order], "ann"
     scores = mul_scores(vs, pos, neg, epsilon=epsilon)
-    lim = len(scores) if top is None else top
-    s = scores[:lim].copy()
-    if exclude:
-        ex = np.asarray(exclude)
-        s[ex[ex < lim]] = -np.inf
-    if len(vs.zero_rows):
-        s[vs.zero_rows[vs.zero_rows < lim]] = -np.inf
-    kk = min(k, lim)
-    part = np.argpartition(-s, kk - 1)[:kk] if kk < lim else np.arange(lim)
-    order = part[np.lexsort((part, -s[part]))]
-    order = order[np.isfinite(s[order])]
-    return order.astype(np.int64), s[order], "exact"
+    rows, best = best_of(vs, scores if top is None else scores[:top].copy(), k, exclude)
+    return rows, best, "exact"
 
 
 __all__ = ["calc", "vector_of", "mul_scores", "EPSILON", "exact_top"]

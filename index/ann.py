@@ -28,8 +28,21 @@ EXACT_BELOW_WORDS = 20_000
 #: Sets at most this big (words x dims) are built in-process: a child's start-up would cost more than the build.
 IN_PROCESS_BELOW = 3_000_000
 #: search_k values tried at build time, smallest first; the first with recall@10 >= TARGET_RECALL is kept.
-SEARCH_K_LADDER = (2_000, 5_000, 10_000, 15_000, 20_000, 25_000, 30_000, 40_000, 60_000, 80_000, 120_000, 160_000,
-                   320_000)
+SEARCH_K_LADDER = (
+    2_000,
+    5_000,
+    10_000,
+    15_000,
+    20_000,
+    25_000,
+    30_000,
+    40_000,
+    60_000,
+    80_000,
+    120_000,
+    160_000,
+    320_000,
+)
 TARGET_RECALL = 0.99
 #: The sample's recall must clear the target by this much: 250 queries estimate recall to about +-0.005.
 RECALL_MARGIN = 0.002
@@ -161,8 +174,14 @@ def load(vs: Any) -> AnnIndex | None:
             vs.warnings.append("annoy index does not match the vectors; ignored")
             return None
         calc_sk = info.get("calc_search_k")
-        return AnnIndex(idx, int(info["trees"]), int(info["search_k"]), float(info["recall_at_10"]), path,
-                        int(calc_sk) if calc_sk else None)
+        return AnnIndex(
+            idx,
+            int(info["trees"]),
+            int(info["search_k"]),
+            float(info["recall_at_10"]),
+            path,
+            int(calc_sk) if calc_sk else None,
+        )
     except (OSError, KeyError, ValueError, TypeError) as exc:
         vs.warnings.append(f"annoy index unreadable ({exc}); ignored")
         return None
@@ -211,9 +230,7 @@ def build(
     per_shard = [trees // n_shards + (1 if i < trees % n_shards else 0) for i in range(n_shards)]
     try:
         if in_process:
-            _add_and_build(
-                matrix, str(tmps[0]), vs.dims, trees, seed, lambda st, d, t: report(d, t, f"index: {st}")
-            )
+            _add_and_build(matrix, str(tmps[0]), vs.dims, trees, seed, lambda st, d, t: report(d, t, f"index: {st}"))
         else:
             _build_in_children(matrix, tmps, vs.dims, per_shard, seed, report, cancel)
         build_s = time.perf_counter() - t0
@@ -272,7 +289,11 @@ def _build_in_children(
     procs = [
         subprocess.Popen(
             [sys.executable, "-m", "index.ann_child", matrix, str(out), str(dims), str(t), str(seed + k)],
-            stdin=subprocess.DEVNULL, stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env, close_fds=True,
+            stdin=subprocess.DEVNULL,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            env=env,
+            close_fds=True,
         )
         for k, (out, t) in enumerate(zip(outs, trees, strict=True))
     ]
@@ -318,9 +339,7 @@ def _build_in_children(
                     f.close()
 
 
-def choose_search_k(
-    vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int = 10
-) -> tuple[int, float, float]:
+def choose_search_k(vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int = 10) -> tuple[int, float, float]:
     """Smallest ``search_k`` on the ladder whose recall@k (after exact re-rank) reaches the target.
 
     Recall is measured on a seeded sample of non-zero rows as queries, against the exact top-k that excludes the
@@ -411,9 +430,7 @@ def choose_calc_search_k(
     return None, best
 
 
-def ann_top(
-    vs: Any, ann: AnnIndex, q: np.ndarray, k: int, exclude: list[int]
-) -> tuple[np.ndarray, np.ndarray]:
+def ann_top(vs: Any, ann: AnnIndex, q: np.ndarray, k: int, exclude: list[int]) -> tuple[np.ndarray, np.ndarray]:
     from .search import rerank
 
     cands = ann.candidates(q, k + len(exclude) + 10)

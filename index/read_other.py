@@ -30,9 +30,7 @@ def read_npy(det: Detected, progress: ProgressFn | None, batch_rows: int) -> Ite
     yield from _from_matrix(det, words, arr, progress, batch_rows)
 
 
-def _from_matrix(
-    det: Detected, words: list[str], arr, progress: ProgressFn | None, batch_rows: int
-) -> Iterator[Batch]:  # type: ignore[no-untyped-def]
+def _from_matrix(det: Detected, words: list[str], arr, progress: ProgressFn | None, batch_rows: int) -> Iterator[Batch]:  # type: ignore[no-untyped-def]
     n = arr.shape[0]
     for s in range(0, n, batch_rows):
         vec = np.ascontiguousarray(arr[s : s + batch_rows], dtype=np.float32)

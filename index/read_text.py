@@ -61,7 +61,6 @@ def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> It
     import pyarrow as pa
     import pyarrow.csv as pcsv
 
-
     dims = det.dims
     ncols = dims + 1 + (1 if det.trailing_space else 0)
     names = [f"c{i}" for i in range(ncols)]
@@ -122,9 +121,7 @@ def _fast(det: Detected, progress: ProgressFn | None, bad_utf8: list[int]) -> It
         raw.close()
 
 
-def _careful(
-    det: Detected, progress: ProgressFn | None, skip_rows: int, bad_utf8: list[int]
-) -> Iterator[Batch]:
+def _careful(det: Detected, progress: ProgressFn | None, skip_rows: int, bad_utf8: list[int]) -> Iterator[Batch]:
     """Line-by-line reader: any whitespace between fields; blank lines skipped; precise errors."""
     path = str(det.path)
     dims = det.dims
@@ -194,26 +191,20 @@ def _to_batch(
     return Batch(decode_words(words, det.warnings, bad_utf8), vec, start_row)
 
 
-def _locate_bad_value(
-    path: str, det: Detected, start_row: int, words: list[bytes], values: list[list[bytes]]
-) -> None:
+def _locate_bad_value(path: str, det: Detected, start_row: int, words: list[bytes], values: list[list[bytes]]) -> None:
     """Find the first value in this batch that is not a finite number and raise an error naming its line."""
     for i, vals in enumerate(values):
         for j, v in enumerate(vals):
             try:
                 x = float(v)
             except ValueError:
-                problem = (
-                    f"value {j + 1} of {det.dims} is not a number: {v.decode('utf-8', 'replace')[:40]!r}"
-                )
+                problem = f"value {j + 1} of {det.dims} is not a number: {v.decode('utf-8', 'replace')[:40]!r}"
             else:
                 if math.isfinite(x) and abs(x) <= FLOAT32_MAX:
                     continue
                 problem = f"value {j + 1} of {det.dims} is {v.decode('utf-8', 'replace')[:40]!r}, not a finite number"
             line, col = _find_line(det, start_row + i, j)
-            raise UnreadableFileError(
-                path, problem, line=line, column=col, word=words[i].decode("utf-8", "replace")
-            )
+            raise UnreadableFileError(path, problem, line=line, column=col, word=words[i].decode("utf-8", "replace"))
     raise UnreadableFileError(path, "a value could not be read as a number")
 
 

@@ -187,9 +187,7 @@ def score_analogies(
     return AnalogyScore(str(path), method, top, case_fold, tuple(out), time.perf_counter() - t0)
 
 
-def _answer_chunk(
-    cand: np.ndarray, fid: np.ndarray, zero: np.ndarray, q: np.ndarray, method: str, eps: float
-) -> int:
+def _answer_chunk(cand: np.ndarray, fid: np.ndarray, zero: np.ndarray, q: np.ndarray, method: str, eps: float) -> int:
     a, b, c, d = cand[q[:, 0]], cand[q[:, 1]], cand[q[:, 2]], q[:, 3]
     if method == "add":
         s = (b - a + c) @ cand.T
@@ -228,15 +226,11 @@ def read_pairs(path: str | Path) -> list[tuple[int, str, str, float]]:
         parts = s.split("\t") if "\t" in s else s.split()
         parts = [x.strip() for x in parts]
         if len(parts) != 3:
-            raise UnreadableFileError(
-                str(p), f"expected two words and a score, found {len(parts)} fields", line=no
-            )
+            raise UnreadableFileError(str(p), f"expected two words and a score, found {len(parts)} fields", line=no)
         try:
             score = float(parts[2])
         except ValueError:
-            raise UnreadableFileError(
-                str(p), f"the score {parts[2][:40]!r} is not a number", line=no
-            ) from None
+            raise UnreadableFileError(str(p), f"the score {parts[2][:40]!r} is not a number", line=no) from None
         if not np.isfinite(score):
             raise UnreadableFileError(str(p), f"the score {parts[2]!r} is not a finite number", line=no)
         out.append((no, parts[0], parts[1], score))

@@ -39,25 +39,33 @@ def unit_query(vec: NDArray[np.float32]) -> NDArray[np.float32]:
     return q / n if n > 0 else q
 
 
+def best_of(
+    vs: VectorSet, scores: NDArray[np.float32], k: int, exclude: Sequence[int] = ()
+) -> tuple[NDArray[np.int64], NDArray[np.float32]]:
+    """The ``k`` highest of ``scores`` (one per row, or per leading row), best first, ties by row; ``exclude`` and
+    zero rows are skipped. ``scores`` is modified in place."""
+    n = len(scores)
+    if len(exclude):
+        ex = np.asarray(exclude, dtype=np.int64)
+        scores[ex[ex < n]] = -np.inf
+    if len(vs.zero_rows):
+        z = vs.zero_rows
+        scores[z[z < n]] = -np.inf
+    k = min(k, n)
+    if k <= 0:
+        return np.empty(0, np.int64), np.empty(0, np.float32)
+    part = np.argpartition(-scores, k - 1)[:k] if k < n else np.arange(n)
+    order = part[np.lexsort((part, -scores[part]))]
+    order = order[np.isfinite(scores[order])]
+    return order.astype(np.int64), scores[order]
+
+
 def exact_top(
     vs: VectorSet, q: NDArray[np.float32], k: int, exclude: Sequence[int] = (), top: int | None = None
 ) -> tuple[NDArray[np.int64], NDArray[np.float32]]:
     """Rows and cosines of the ``k`` rows nearest unit vector ``q``, best first, skipping ``exclude`` and zero rows."""
     m = vs.unit if top is None else vs.unit[:top]
-    scores = m @ q
-    if len(exclude):
-        ex = np.asarray(exclude, dtype=np.int64)
-        scores[ex[ex < len(scores)]] = -np.inf
-    if len(vs.zero_rows):
-        z = vs.zero_rows
-        scores[z[z < len(scores)]] = -np.inf
-    k = min(k, len(scores))
-    if k <= 0:
-        return np.empty(0, np.int64), np.empty(0, np.float32)
-    part = np.argpartition(-scores, k - 1)[:k] if k < len(scores) else np.arange(len(scores))
-    order = part[np.lexsort((part, -scores[part]))]
-    order = order[np.isfinite(scores[order])]
-    return order.astype(np.int64), scores[order]
+    return best_of(vs, m @ q, k, exclude)
 
 
 def rerank(
@@ -133,8 +141,7 @@ def neighbours(
         return NeighbourResult(word, k, "exact", (), top, (time.perf_counter() - t0) * 1000)
     rows, scores, used = top_for_vector(vs, q, k, [r], ann=ann, mode=mode, top=top)
     res = tuple(
-        Neighbour(i + 1, vs.words[int(row)], float(s))
-        for i, (row, s) in enumerate(zip(rows, scores, strict=True))
+        Neighbour(i + 1, vs.words[int(row)], float(s)) for i, (row, s) in enumerate(zip(rows, scores, strict=True))
     )
     return NeighbourResult(word, k, used, res, top, (time.perf_counter() - t0) * 1000)
 
@@ -157,15 +164,22 @@ def rank_of(
     vs: VectorSet, q: NDArray[np.float32], target: int, exclude: Sequence[int] = (), top: int | None = None
 ) -> int | None:
     """1-based rank of row ``target`` among all rows by cosine to ``q`` (``exclude`` and zero rows skipped)."""
+    m = vs.unit if top is None else vs.unit[:top]
+    return rank_in(vs, m @ q, target, exclude, top)
+
+
+def rank_in(
+    vs: VectorSet, scores: NDArray[np.float32], target: int, exclude: Sequence[int] = (), top: int | None = None
+) -> int | None:
+    """1-based rank of row ``target`` by ``scores`` (ties by row), or None if it is excluded, zero or beyond top."""
     if target in exclude or vs.is_zero(target) or (top is not None and target >= top):
         return None
-    m = vs.unit if top is None else vs.unit[:top]
-    scores = m @ q
-    t = scores[target]
-    mask = np.ones(len(scores), dtype=bool)
-    mask[np.asarray(list(exclude), dtype=np.int64)] = False
+    s = scores if top is None else scores[:top]
+    mask = np.ones(len(s), dtype=bool)
+    mask[[e for e in exclude if e < len(s)]] = False
     if len(vs.zero_rows):
-        mask[vs.zero_rows[vs.zero_rows < len(scores)]] = False
-    better = int(np.count_nonzero((scores > t) & mask))
-    ties_before = int(np.count_nonzero((scores[:target] == t) & mask[:target]))
+        mask[vs.zero_rows[vs.zero_rows < len(s)]] = False
+    t = s[target]
+    better = int(np.count_nonzero((s > t) & mask))
+    ties_before = int(np.count_nonzero((s[:target] == t) & mask[:target]))
     return better + ties_before + 1

@@ -179,15 +179,11 @@ def _build(
         if writer is not None:
             writer.close()
     if writer is None or not words:
-        raise UnreadableFileError(
-            str(det.path), "contains no vectors", line=2 if det.header_count is not None else 1
-        )
+        raise UnreadableFileError(str(det.path), "contains no vectors", line=2 if det.header_count is not None else 1)
     warnings = list(det.warnings)
     norms = np.concatenate(norm_parts)
     if det.header_count is not None and det.header_count != len(words) and det.kind != "npy":
-        warnings.append(
-            f"the header says {det.header_count} words but the file has {len(words)}; kept {len(words)}"
-        )
+        warnings.append(f"the header says {det.header_count} words but the file has {len(words)}; kept {len(words)}")
     first: dict[str, int] = {}
     for i, w in enumerate(words):
         first.setdefault(w, i)
@@ -242,9 +238,7 @@ def _map(source: Path, dir_: Path, meta: dict[str, Any], fp: str, cache_dir: Pat
     unit = np.load(dir_ / "matrix.npy", mmap_mode="r")
     norms = np.load(dir_ / "norms.npy", allow_pickle=False)
     zero = np.load(dir_ / "zero_rows.npy", allow_pickle=False)
-    words = cache.decode_words(
-        (dir_ / "words.txt").read_bytes(), bool(meta.get("words_escaped")), int(meta["words"])
-    )
+    words = cache.decode_words((dir_ / "words.txt").read_bytes(), bool(meta.get("words_escaped")), int(meta["words"]))
     if len(words) != unit.shape[0] or len(norms) != unit.shape[0]:
         raise ValueError("words, norms and matrix disagree in length")
     return VectorSet(
