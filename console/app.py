@@ -256,7 +256,8 @@ class WordkinApp(App[int]):
             "similarity": "#sm-words",
             "notebook": "#nbk-list",
         }
-        self.query_one(focus[pane]).focus()
+        # Synchronously: Widget.focus() defers, and keys typed right after F2-F5 would go to the hidden pane.
+        self.screen.set_focus(self.query_one(focus[pane]))
 
     def action_help(self) -> None:
         scopes = [
