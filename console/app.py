@@ -1,5 +1,6 @@
-"""The wordkin console (Textual). Thin on purpose: it loads the vectors and the index in workers, owns the shared
-state (the open ``VectorSet`` and its annoy index) and the global keys; each pane lives in its own module."""
+"""The wordkin console (Textual). Thin on purpose: it loads the vectors and the index in workers, holds the
+session (vectors, index, index state) and publishes it to the panes with ``SessionChanged``, passes save requests
+to the notebook, and owns the global keys. The panes come from one table (``panes.PANES``)."""
 
 from __future__ import annotations
 
@@ -15,15 +16,16 @@ from textual.message import Message
 from textual.widgets import Footer, TabbedContent, TabPane
 from textual.worker import Worker, WorkerState, get_current_worker
 
-from index import ann as ann_mod
-from index.errors import CancelledError, WordkinError
-from index.store import VectorSet, open_vectors
+from wordkin.index.ann import AnnIndex, IndexState, load
+from wordkin.index.errors import CancelledError, WordkinError
+from wordkin.index.index_build import build
+from wordkin.index.session import Session
+from wordkin.index.store import open_vectors
 
 from .help_screen import HelpScreen, binding_rows
-from .pane_arith import ArithmeticPane
-from .pane_neighbours import NeighboursPane
+from .pane_base import QueryPane, SessionChanged, VocabView
 from .pane_notebook import NotebookPane
-from .pane_similarity import SimilarityPane
+from .panes import BY_ID, PANES
 from .safe_text import visible
 from .status_line import StatusLine
 from .widgets import completion_list
@@ -38,10 +40,7 @@ class WordkinApp(App[int]):
 
     BINDINGS = [
         Binding("f1,question_mark", "help", "Help", id="app.help"),
-        Binding("f2", "pane('neighbours')", "Neighbours", id="app.neighbours"),
-        Binding("f3", "pane('arith')", "Arithmetic", id="app.arith"),
-        Binding("f4", "pane('similarity')", "Similarity", id="app.similarity"),
-        Binding("f5", "pane('notebook')", "Notebook", id="app.notebook"),
+        *(p.binding() for p in PANES),
         Binding("f12", "screenshot_svg", "Screenshot", show=False, id="app.screenshot"),
         Binding("ctrl+q", "quit", "Quit", priority=True, id="app.quit"),
     ]
@@ -55,9 +54,11 @@ class WordkinApp(App[int]):
             return isinstance(message, WordkinApp.LoadProgress)
 
     class VectorsLoaded(Message):
-        def __init__(self, vectors: VectorSet, escaped: dict[str, str], completion: list[str]) -> None:
+        """The vectors are open; ``session`` says whether a cached index came with them (or was rejected)."""
+
+        def __init__(self, session: Session, vocab: VocabView) -> None:
             super().__init__()
-            self.vectors, self.escaped, self.completion = vectors, escaped, completion
+            self.session, self.vocab = session, vocab
 
     class LoadFailed(Message):
         def __init__(self, error: WordkinError) -> None:
@@ -69,7 +70,7 @@ class WordkinApp(App[int]):
             return isinstance(message, WordkinApp.IndexProgress)
 
     class IndexReady(Message):
-        def __init__(self, index: ann_mod.AnnIndex) -> None:
+        def __init__(self, index: AnnIndex) -> None:
             super().__init__()
             self.index = index
 
@@ -95,21 +96,16 @@ class WordkinApp(App[int]):
         self.trust_pickle = trust_pickle
         self.notebook_path = notebook
         self.build_index = build_index
-        self.vectors: VectorSet | None = None
-        self.ann: ann_mod.AnnIndex | None = None
-        self.escaped: dict[str, str] = {}
-        self.index_state = ann_mod.IndexState.EMPTY
+        self.session: Session | None = None
+        self.vocab = VocabView({}, [])
 
     def compose(self) -> ComposeResult:
-        with TabbedContent(initial="neighbours"):
-            with TabPane("Neighbours F2", id="neighbours"):
-                yield NeighboursPane()
-            with TabPane("Arithmetic F3", id="arith"):
-                yield ArithmeticPane()
-            with TabPane("Similarity F4", id="similarity"):
-                yield SimilarityPane()
-            with TabPane("Notebook F5", id="notebook"):
-                yield NotebookPane(self.notebook_path)
+        with TabbedContent(initial=PANES[0].id):
+            for spec in PANES:
+                with TabPane(spec.tab_label, id=spec.id):
+                    pane = spec.make(self.notebook_path)
+                    pane.id = f"pane-{spec.id}"
+                    yield pane
         yield StatusLine()
         yield Footer()
 
@@ -117,10 +113,18 @@ class WordkinApp(App[int]):
         status = self.query_one(StatusLine)
         status.source = os.path.basename(self.path)
         status.mode = "loading…"
-        self.query_one("#nb-word").focus()
+        self.query_one(PANES[0].focus).focus()
         self.load_vectors()
 
-    # -- loading ---------------------------------------------------------------------------------------
+    # -- the session -----------------------------------------------------------------------------------
+
+    def publish(self, session: Session) -> None:
+        """Make ``session`` current: every pane gets it, the status line says how queries are answered."""
+        self.session = session
+        for spec in PANES:
+            self.query_one(f"#pane-{spec.id}").post_message(SessionChanged(session, self.vocab))
+        status = self.query_one(StatusLine)
+        status.mode = session.answering()
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="load", description="load vectors")
     def load_vectors(self) -> None:
@@ -140,13 +144,14 @@ class WordkinApp(App[int]):
                 v = visible(w)
                 if v != w:
                     escaped[v] = w
-            completion = completion_list(vs.words)
+            vocab = VocabView(escaped, completion_list(vs.words))
+            session = Session.from_load(vs, load(vs))
         except CancelledError:
             return
         except WordkinError as exc:
             self.post_message(self.LoadFailed(exc))
             return
-        self.post_message(self.VectorsLoaded(vs, escaped, completion))
+        self.post_message(self.VectorsLoaded(session, vocab))
 
     def _report_load(self, done: int, total: int, stage: str) -> None:
         self.post_message(self.LoadProgress(done, total, stage))
@@ -164,23 +169,22 @@ class WordkinApp(App[int]):
         self._show_progress(msg)
 
     def on_wordkin_app_vectors_loaded(self, msg: VectorsLoaded) -> None:
-        vs = msg.vectors
-        self.vectors = vs
-        self.escaped = msg.escaped
+        session = msg.session
+        vs = session.vectors
+        self.vocab = msg.vocab
         status = self.query_one(StatusLine)
         status.summary = f"· {vs.n:,} words · {vs.dims} dims"
-        status.notice = "; ".join(vs.warnings)[:200]
+        notices = list(vs.warnings)
+        if session.state is IndexState.REJECTED:
+            notices.append(f"index rejected ({session.reason}); rebuilding it")
+        status.notice = "; ".join(notices)[:200]
         status.idle()
-        self.query_one(NeighboursPane).on_vectors_ready(msg.completion)
-        idx = ann_mod.load(vs)
-        if idx is not None:
-            self.post_message(self.IndexReady(idx))
-        elif vs.cache_dir is not None and self.build_index:
-            status.mode = "exact · building index…"
-            self.index_state = ann_mod.IndexState.BUILDING
-            self.build_ann()
+        if session.state is not IndexState.READY and vs.cache_dir is not None and self.build_index:
+            session = session.with_state(IndexState.BUILDING, reason=session.reason)
+            self.publish(session)
+            self.build_ann(session)
         else:
-            status.mode = "exact" + (" (no cache: no index)" if vs.cache_dir is None else "")
+            self.publish(session)
 
     def on_wordkin_app_load_failed(self, msg: LoadFailed) -> None:
         status = self.query_one(StatusLine)
@@ -190,14 +194,10 @@ class WordkinApp(App[int]):
         self.notify(visible(msg.error.message), title=msg.error.title, severity="error", timeout=30, markup=False)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="index", description="build annoy index")
-    def build_ann(self) -> None:
+    def build_ann(self, session: Session) -> None:
         worker = get_current_worker()
         try:
-            idx = ann_mod.build(
-                self.vectors,
-                progress=self._report_index,
-                cancel=lambda: worker.is_cancelled,
-            )
+            idx = build(session.vectors, progress=self._report_index, cancel=lambda: worker.is_cancelled)
         except CancelledError:
             return
         except (WordkinError, OSError) as exc:
@@ -206,25 +206,19 @@ class WordkinApp(App[int]):
         self.post_message(self.IndexReady(idx))
 
     def on_wordkin_app_index_progress(self, msg: IndexProgress) -> None:
-        self._show_progress(msg, "exact · ")
+        self._show_progress(msg, "exact search · ")
 
     def on_wordkin_app_index_ready(self, msg: IndexReady) -> None:
-        self.ann = msg.index
-        self.index_state = ann_mod.IndexState.READY
-        status = self.query_one(StatusLine)
-        status.idle()
-        vs = self.vectors
-        exact_anyway = vs is not None and vs.n < ann_mod.EXACT_BELOW_WORDS
-        status.mode = f"index ready, recall@10 {msg.index.recall_at_10:.3f}" + (
-            " · exact (small set)" if exact_anyway else ""
-        )
+        self.query_one(StatusLine).idle()
+        if self.session is not None:
+            self.query_one(StatusLine).notice = "; ".join(self.session.vectors.warnings)[:200]
+            self.publish(self.session.with_state(IndexState.READY, msg.index))
 
     def on_wordkin_app_index_failed(self, msg: IndexFailed) -> None:
-        self.index_state = ann_mod.IndexState.FAILED
         status = self.query_one(StatusLine)
         status.idle()
-        status.mode = "exact (index failed)"
-        status.notice = msg.reason
+        if self.session is not None:
+            self.publish(self.session.with_state(IndexState.FAILED, reason=msg.reason))
 
     def on_worker_state_changed(self, event: Worker.StateChanged) -> None:
         """The one place unexpected worker errors surface: shown, never swallowed."""
@@ -234,41 +228,19 @@ class WordkinApp(App[int]):
             self.query_one(StatusLine).notice = text
             self.notify(visible(text), title="unexpected error", severity="error", timeout=30, markup=False)
 
-    # -- shared helpers for the panes -----------------------------------------------------------------
-
-    def word_from_display(self, text: str) -> str:
-        """The vocabulary word behind ``text`` as shown (words with control characters are shown escaped)."""
-        vs = self.vectors
-        if vs is not None and vs.find(text) is None and text in self.escaped:
-            return self.escaped[text]
-        return text
-
-    def save_to_notebook(self, result: Any, note: str = "") -> None:
-        self.query_one(NotebookPane).save(result, note)
+    def on_query_pane_save_requested(self, msg: QueryPane.SaveRequested) -> None:
+        self.query_one(NotebookPane).save(msg.result, msg.session)
 
     # -- actions ---------------------------------------------------------------------------------------
 
     def action_pane(self, pane: str) -> None:
         self.query_one(TabbedContent).active = pane
-        focus = {
-            "neighbours": "#nb-word",
-            "arith": "#ar-expr",
-            "similarity": "#sm-words",
-            "notebook": "#nbk-list",
-        }
-        # Synchronously: Widget.focus() defers, and keys typed right after F2-F5 would go to the hidden pane.
-        self.screen.set_focus(self.query_one(focus[pane]))
+        # Synchronously: Widget.focus() defers, and keys typed right after a pane key would go to the hidden pane.
+        self.screen.set_focus(self.query_one(BY_ID[pane].focus))
 
     def action_help(self) -> None:
-        scopes = [
-            ("global", self.BINDINGS),
-            ("neighbours", NeighboursPane.BINDINGS),
-            ("arithmetic", ArithmeticPane.BINDINGS),
-            ("similarity", SimilarityPane.BINDINGS),
-            ("notebook", NotebookPane.BINDINGS),
-            ("help", HelpScreen.BINDINGS),
-        ]
-        self.push_screen(HelpScreen(binding_rows(scopes)))
+        scopes = [("global", self.BINDINGS)] + [(p.label.lower(), p.bindings) for p in PANES]
+        self.push_screen(HelpScreen(binding_rows([*scopes, ("help", HelpScreen.BINDINGS)])))
 
     def action_screenshot_svg(self) -> None:
         path = self.save_screenshot(path=os.environ.get("WORDKIN_SCREENSHOTS", "."))
@@ -286,7 +258,7 @@ def create_app(path: str, args: argparse.Namespace | None = None, **kw: Any) -> 
 
 
 def run_console(path: str, args: argparse.Namespace) -> int:
-    from index.formats import detect
+    from wordkin.index.formats import detect
 
     detect(path, trust_pickle=args.trust_pickle)  # fail fast, before the screen opens, on an unreadable file
     app = create_app(path, args)

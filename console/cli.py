@@ -4,14 +4,13 @@ stderr. Exit codes: 0 done, 2 usage, 3 unknown word, 4 unreadable/malformed file
 from __future__ import annotations
 
 import argparse
-import json
 import os
 import sys
 from collections.abc import Sequence
-from typing import Any
 
-from index.errors import UsageError, WordkinError
+from wordkin.index.errors import UsageError, WordkinError
 
+from .cli_queries import COMMANDS
 from .safe_text import visible
 
 
@@ -51,34 +50,13 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--json", action="store_true")
     _shared(p)
 
-    p = sub.add_parser("near", help="nearest neighbours of WORD")
-    p.add_argument("file")
-    p.add_argument("word")
-    p.add_argument("-k", type=int, default=10)
-    p.add_argument("--top", type=int, metavar="N", help="only the N most frequent words may be answers")
-    p.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
-    p.add_argument("--json", action="store_true")
-    _save_opts(p)
-    _shared(p)
-
-    p = sub.add_parser("calc", help="words nearest an expression (arithmetic or a : b :: c : ?)")
-    p.add_argument("file")
-    p.add_argument("expr")
-    p.add_argument("-k", type=int, default=10)
-    p.add_argument("--method", choices=("add", "mul"), default="add")
-    p.add_argument("--top", type=int, metavar="N")
-    p.add_argument("--keep-inputs", action="store_true", help="do not exclude the expression's words")
-    p.add_argument("--exact", action="store_true")
-    p.add_argument("--json", action="store_true")
-    _save_opts(p)
-    _shared(p)
-
-    p = sub.add_parser("sim", help="pairwise cosines of a list of words, and the odd one out")
-    p.add_argument("file")
-    p.add_argument("words", nargs="+", metavar="WORD")
-    p.add_argument("--json", action="store_true")
-    _save_opts(p)
-    _shared(p)
+    for qc in COMMANDS:
+        p = sub.add_parser(qc.name, help=qc.help)
+        p.add_argument("file")
+        qc.add_arguments(p)
+        p.add_argument("--json", action="store_true")
+        _save_opts(p)
+        _shared(p)
 
     p = sub.add_parser("score", help="score on an analogy or word-pair benchmark")
     p.add_argument("file")
@@ -105,39 +83,13 @@ def build_parser() -> argparse.ArgumentParser:
     return ap
 
 
-def warn(msg: str) -> None:
-    print(f"wordkin: warning: {visible(msg)}", file=sys.stderr)
-
-
-def open_set(args: argparse.Namespace, path: str | None = None) -> Any:
-    from index.store import open_vectors
-
-    from .progress_bar import stderr_progress
-
-    with stderr_progress() as report:
-        vs = open_vectors(
-            path or args.file,
-            cache_root=args.cache,
-            use_cache=not args.no_cache,
-            trust_pickle=args.trust_pickle,
-            progress=report,
-        )
-    for w in vs.warnings:
-        warn(w)
-    return vs
-
-
-def emit_json(obj: dict[str, Any]) -> None:
-    sys.stdout.write(json.dumps(obj, ensure_ascii=False) + "\n")
-
-
 def main(argv: Sequence[str] | None = None) -> int:
     ap = build_parser()
     args = ap.parse_args(argv)
     try:
-        from . import commands
+        from .commands import HANDLERS
 
-        return int(getattr(commands, "cmd_" + args.cmd)(args) or 0)
+        return int(HANDLERS[args.cmd](args) or 0)
     except UsageError as exc:
         print(f"wordkin: {visible(exc.message)}", file=sys.stderr)
         return exc.exit_code

@@ -1,4 +1,8 @@
-"""One function per ``wordkin`` subcommand. Each takes the parsed arguments and returns the exit code."""
+"""One function per ``wordkin`` subcommand. Each takes the parsed arguments and returns the exit code.
+
+The query commands (``near``, ``calc``, ``sim``) share one path: arguments -> query value (``cli_queries``) ->
+``query.run(session)`` -> a renderer (``render`` or the result's JSON) -> optionally the notebook.
+"""
 
 from __future__ import annotations
 
@@ -6,58 +10,23 @@ import argparse
 import sys
 from typing import Any
 
-from index.expr import ExprError
+from wordkin.index.errors import UsageError
+from wordkin.index.expr import ExprError
+from wordkin.index.query_base import Result
+from wordkin.index.session import Session
 
-from .cli import emit_json, open_set, warn
-from .render import neighbour_table
+from .cli_io import emit_json, note, open_session, open_set
+from .cli_queries import BY_NAME
+from .render import result_text
 from .safe_text import visible
 
 
-def _ann_for(vs: Any, exact: bool) -> Any:
-    if exact:
-        return None
-    from index.ann import load
-
-    return load(vs)
-
-
-def cmd_near(args: argparse.Namespace) -> int:
-    from index.search import neighbours
-
-    vs = open_set(args)
-    res = neighbours(
-        vs,
-        args.word,
-        args.k,
-        ann=_ann_for(vs, args.exact),
-        mode="exact" if args.exact else "auto",
-        top=args.top,
-    )
-    if args.json:
-        emit_json(res.to_json())
-    else:
-        sys.stdout.write(neighbour_table(res.results, title=f"neighbours of {res.query} ({res.mode})"))
-    _maybe_save(args, vs, res)
-    return 0
-
-
-def cmd_calc(args: argparse.Namespace) -> int:
-    from index.analogy import calc
-
-    from .render import calc_text
-
-    vs = open_set(args)
+def cmd_query(args: argparse.Namespace) -> int:
+    """``near``, ``calc`` or ``sim``: build the query from the arguments, answer it, print it, maybe save it."""
+    query = BY_NAME[args.cmd].build(args)
+    session = open_session(args, want_index=not getattr(args, "exact", False))
     try:
-        res = calc(
-            vs,
-            args.expr,
-            args.k,
-            method=args.method,
-            top=args.top,
-            keep_inputs=args.keep_inputs,
-            ann=_ann_for(vs, args.exact),
-            mode="exact" if args.exact else "auto",
-        )
+        res = query.run(session)
     except ExprError as exc:
         from rich.cells import cell_len
 
@@ -66,25 +35,23 @@ def cmd_calc(args: argparse.Namespace) -> int:
         print(f"wordkin: expression, column {exc.column + 1}: {visible(exc.expected)}", file=sys.stderr)
         print(f"  {visible(text)}\n  {caret}", file=sys.stderr)
         return exc.exit_code
-    emit_json(res.to_json()) if args.json else sys.stdout.write(calc_text(res))
-    _maybe_save(args, vs, res)
+    emit_json(res.to_json()) if args.json else sys.stdout.write(result_text(res))
+    _maybe_save(args, session, res)
     return 0
 
 
-def cmd_sim(args: argparse.Namespace) -> int:
-    from index.similarity import similarity
+def _maybe_save(args: argparse.Namespace, session: Session, res: Result) -> None:
+    if not getattr(args, "save", None):
+        return
+    from .notebook import Entry, Notebook
 
-    from .render import similarity_text
-
-    vs = open_set(args)
-    res = similarity(vs, list(args.words))
-    emit_json(res.to_json()) if args.json else sys.stdout.write(similarity_text(res))
-    _maybe_save(args, vs, res)
-    return 0
+    with Notebook.open(args.save) as nb:
+        entry_id = nb.add(Entry.of(res, session.vectors, note=args.note))
+    note(f"saved as entry {entry_id} in {args.save}")
 
 
 def cmd_score(args: argparse.Namespace) -> int:
-    from index.scoring import score_analogies, score_pairs
+    from wordkin.index.scoring import score_analogies, score_pairs
 
     from .progress_bar import stderr_progress
     from .render import score_text
@@ -106,64 +73,67 @@ def cmd_score(args: argparse.Namespace) -> int:
     return 0
 
 
-def _maybe_save(args: argparse.Namespace, vs: Any, res: Any) -> None:
-    if not getattr(args, "save", None):
-        return
-    from .notebook import Notebook, entry_from_result
-
-    with Notebook.open(args.save) as nb:
-        entry_id = nb.add(entry_from_result(res, vs, note=args.note))
-    print(f"wordkin: saved as entry {entry_id} in {args.save}", file=sys.stderr)
-
-
-def _info_dict(vs: Any) -> dict[str, Any]:
-    idx = vs.meta.get("index") or {}
+def info_dict(session: Session) -> dict[str, Any]:
+    vs = session.vectors
+    idx = vs.meta.index
+    state = session.state.value
+    index: dict[str, Any] = {"state": state, "answering": session.answering()}
+    if session.reason:
+        index["reason"] = session.reason
+    if idx.state == "ready":
+        index.update(
+            {
+                "trees": idx.trees,
+                "search_k": idx.search_k,
+                # recall@10 of the index after the exact re-rank, on a seeded sample of the vocabulary as queries
+                "recall_at_10": idx.recall_at_10,
+                "recall_sample": idx.recall_sample,
+                "calc_search_k": idx.calc_search_k,
+            }
+        )
     return {
         "words": vs.n,
         "dims": vs.dims,
         "format": vs.format,
         "source": str(vs.source),
         "cache": str(vs.cache_dir) if vs.cache_dir else None,
-        "index": {
-            "state": idx.get("state", "empty"),
-            "trees": idx.get("trees"),
-            "recall_at_10": idx.get("recall_at_10"),
-            "search_k": idx.get("search_k"),
-        },
+        "index": index,
     }
 
 
 def _print_info(d: dict[str, Any]) -> None:
-    from .safe_text import visible
-
     idx = d["index"]
     lines = [
         f"source   {visible(d['source'])}",
         f"format   {d['format']}",
         f"words    {d['words']:,}",
         f"dims     {d['dims']}",
-        f"cache    {d['cache'] or 'off'}",
+        f"cache    {visible(d['cache'] or 'off')}",
     ]
     if idx["state"] == "ready":
         lines.append(
             f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}, "
             f"recall@10 {idx['recall_at_10']:.3f} (measured against exact search)"
         )
+    elif idx["state"] == "rejected":
+        lines.append(f"index    rejected: {visible(idx['reason'])} (`wordkin prepare` rebuilds it)")
+    elif d["cache"]:
+        lines.append(f"index    {idx['state']} (`wordkin prepare` builds it)")
     else:
-        lines.append(f"index    {idx['state']} (queries are answered by exact search; `wordkin prepare` builds it)")
+        lines.append("index    none (no cache)")
+    lines.append(f"queries  {visible(idx['answering'])}")
     sys.stdout.write("\n".join(lines) + "\n")
 
 
 def cmd_info(args: argparse.Namespace) -> int:
-    vs = open_set(args)
-    d = _info_dict(vs)
+    d = info_dict(open_session(args))
     emit_json(d) if args.json else _print_info(d)
     return 0
 
 
 def cmd_prepare(args: argparse.Namespace) -> int:
-    from index import ann
-    from index.errors import UsageError
+    from wordkin.index.ann import IndexState, load
+    from wordkin.index.index_build import build
 
     from .progress_bar import stderr_progress
 
@@ -172,12 +142,18 @@ def cmd_prepare(args: argparse.Namespace) -> int:
     if args.no_cache:
         raise UsageError("prepare writes the cache; it cannot be used with --no-cache")
     vs = open_set(args)
-    print(f"wordkin: vectors {vs.cache_note} ({vs.meta.get('parse_seconds', 0)} s to parse)", file=sys.stderr)
+    if vs.cache_note == "hit":
+        note("cache ready (vectors already parsed)")
+    else:
+        note(f"cache {vs.cache_note} ({vs.meta.parse_seconds} s to parse)")
+    loaded = load(vs)
+    if loaded.state is IndexState.REJECTED:
+        note(f"the cached index was rejected ({loaded.reason}); rebuilding it")
     with stderr_progress() as report:
-        ann.build(vs, n_trees=args.trees, progress=report)
-    _print_info(_info_dict(vs))
-    idx = vs.meta["index"]
-    sys.stdout.write(f"built    in {idx['build_seconds']} s; p50 query {idx['query_ms_p50']} ms\n")
+        index = build(vs, n_trees=args.trees, progress=report)
+    _print_info(info_dict(Session(vs, index, IndexState.READY)))
+    idx = vs.meta.index
+    sys.stdout.write(f"built    in {idx.build_seconds} s; p50 query {idx.query_ms_p50} ms\n")
     return 0
 
 
@@ -187,7 +163,7 @@ def cmd_export(args: argparse.Namespace) -> int:
     text = export_command(args)
     if args.output and args.output != "-":
         p = write_file(args.output, text, force=args.force)
-        print(f"wordkin: wrote {p}", file=sys.stderr)
+        note(f"wrote {p}")
     else:
         sys.stdout.write(text)
     return 0
@@ -199,7 +175,7 @@ def cmd_import(args: argparse.Namespace) -> int:
 
     with Notebook.open(args.notebook) as nb:
         n = import_json(args.json_file, nb)
-    print(f"wordkin: imported {n} entries into {args.notebook}", file=sys.stderr)
+    note(f"imported {n} entr{'y' if n == 1 else 'ies'} into {args.notebook}")
     return 0
 
 
@@ -210,7 +186,7 @@ def cmd_open(args: argparse.Namespace) -> int:
 
 
 def cmd_demo(args: argparse.Namespace) -> int:
-    from demo_vectors import demo_path
+    from wordkin.demo_vectors import demo_path
 
     if args.path:
         print(demo_path())
@@ -220,4 +196,15 @@ def cmd_demo(args: argparse.Namespace) -> int:
     return run_console(str(demo_path()), args)
 
 
-__all__ = ["cmd_near", "cmd_info", "cmd_prepare", "cmd_open", "cmd_demo", "warn"]
+HANDLERS = {
+    "near": cmd_query,
+    "calc": cmd_query,
+    "sim": cmd_query,
+    "score": cmd_score,
+    "info": cmd_info,
+    "prepare": cmd_prepare,
+    "export": cmd_export,
+    "import": cmd_import,
+    "open": cmd_open,
+    "demo": cmd_demo,
+}

@@ -19,14 +19,17 @@ from typing import Any
 
 from rich.cells import cell_len
 
-from index.errors import UnreadableFileError, UsageError
+from wordkin.index.errors import UnreadableFileError, UsageError
+from wordkin.index.query_base import Table
 
+from .legacy import upgrade_v1
 from .notebook import Entry, Notebook
+from .render import cell_text, table_lines
 from .safe_text import visible, visible_word
 
 FORMATS = ("text", "md", "csv", "json")
 JSON_FORMAT = "wordkin-notebook"
-JSON_VERSION = 1
+JSON_VERSION = 2
 RULE = "-" * 72
 
 
@@ -35,17 +38,12 @@ def _pad(s: str, w: int) -> str:
 
 
 def _params(e: Entry) -> str:
-    p = e.params
-    parts = []
-    if "k" in p:
-        parts.append(f"k {p['k']}")
-    if "method" in p:
-        parts.append("method " + {"add": "3CosAdd", "mul": "3CosMul"}.get(p["method"], str(p["method"])))
-    if "top" in p:
-        parts.append(f"top {p['top'] if p['top'] else 'all'}")
-    if "mode" in p:
-        parts.append(f"search {p['mode']}")
-    return ", ".join(parts) or "none"
+    """Every option that shaped the result, and how it was answered."""
+    opts = e.query.options()
+    how = {"ann": "answered by index candidates, exact cosines", "exact": "answered by exact search"}.get(
+        e.result.mode, ""
+    )
+    return ", ".join(opts + ([how] if how else [])) or "none"
 
 
 def _vector_set(e: Entry) -> str:
@@ -56,17 +54,13 @@ def _vector_set(e: Entry) -> str:
     )
 
 
-def _score_label(e: Entry) -> str:
-    return "3CosMul" if e.params.get("method") == "mul" else "cosine"
-
-
 def text_entry(e: Entry, number: int) -> str:
     """One entry as fixed-width plain text."""
     out = [
         f"#{number}  {visible(e.title)}",
         f"    saved       {e.created}",
         f"    vector set  {_vector_set(e)}",
-        f"    parameters  {_params(e)}",
+        f"    parameters  {visible(_params(e))}",
     ]
     note = e.note.strip()
     if note:
@@ -76,37 +70,21 @@ def text_entry(e: Entry, number: int) -> str:
         out.append(f"    note        {lines[0]}")
         out.extend(f"                {x}" for x in lines[1:])
     out.append("")
-    if e.kind in ("neighbours", "arithmetic"):
-        rows = e.result.get("rows", [])
-        words = [visible_word(r["word"]) for r in rows]
-        w = max([4] + [cell_len(x) for x in words])
-        out.append(f"    rank  {_pad('word', w)}  {_score_label(e)}")
-        for r, word in zip(rows, words, strict=True):
-            out.append(f"    {r['rank']:>4}  {_pad(word, w)}  {r['similarity']:7.3f}")
-        if not rows:
+    for caption, table in e.result.tables():
+        if caption:
+            out.append("    " + visible(caption))
+        if table.rows:
+            out.extend("    " + line for line in table_lines(table))
+        else:
             out.append("    (no results)")
-        if e.result.get("excluded"):
-            out.append("    excluded: " + ", ".join(visible(x) for x in e.result["excluded"]))
-        t = e.result.get("target")
-        if t:
-            where = "excluded" if t.get("rank") is None else f"rank {t['rank']}, score {t['similarity']:.3f}"
-            out.append(f"    expected answer {visible(t['word'])}: {where}")
-    else:
-        words = [visible_word(x) for x in e.query["words"]]
-        w = max(cell_len(x) for x in words)
-        cw = max(7, min(12, w))
-        out.append("    " + " " * (w + 2) + " ".join(_pad(x[:cw], cw) for x in words))
-        for name, row in zip(words, e.result["matrix"], strict=True):
-            out.append("    " + _pad(name, w) + "  " + " ".join(f"{v:>{cw}.3f}" for v in row))
-        if e.result.get("odd_one_out") is not None:
-            out.append(f"    odd one out: {visible(e.result['odd_one_out'])}")
+    out.extend("    " + visible(n) for n in e.result.notes())
     return "\n".join(out) + "\n"
 
 
 def to_text(entries: list[Entry], source: str, exported: str) -> str:
     head = [
         f"wordkin notebook {visible(os.path.basename(source))}",
-        f"exported {exported}, {len(entries)} entr{'y' if len(entries) == 1 else 'ies'}",
+        f"exported {exported}, {_count(len(entries))}",
         "",
     ]
     body = []
@@ -120,11 +98,19 @@ def md_cell(s: str) -> str:
     return visible_word(s).replace("\\", "\\\\").replace("|", "\\|").replace("`", "\\`")
 
 
+def md_table(t: Table) -> list[str]:
+    head = "| " + " | ".join(md_cell(c) if c else " " for c in t.columns) + " |"
+    numeric = t.numeric or tuple(False for _ in t.columns)
+    rule = "|" + "|".join(" ---: " if n else " --- " for n in numeric) + "|"
+    rows = ["| " + " | ".join(md_cell(cell_text(v)) for v in row) + " |" for row in t.rows]
+    return [head, rule, *rows]
+
+
 def to_markdown(entries: list[Entry], source: str, exported: str) -> str:
     out = [
         f"# wordkin notebook {md_cell(os.path.basename(source))}",
         "",
-        f"Exported {exported}, {len(entries)} entries.",
+        f"Exported {exported}, {_count(len(entries))}.",
         "",
     ]
     for i, e in enumerate(entries, 1):
@@ -137,26 +123,20 @@ def to_markdown(entries: list[Entry], source: str, exported: str) -> str:
         ]
         if e.note.strip():
             out.append("- note: " + " ".join(md_cell(x) for x in e.note.strip().splitlines()))
-        out.append("")
-        if e.kind in ("neighbours", "arithmetic"):
-            out += [f"| rank | word | {_score_label(e)} |", "| ---: | --- | ---: |"]
-            out += [f"| {r['rank']} | {md_cell(r['word'])} | {r['similarity']:.3f} |" for r in e.result["rows"]]
-            if e.result.get("excluded"):
-                out += ["", "Excluded: " + ", ".join(md_cell(x) for x in e.result["excluded"]) + "."]
-            t = e.result.get("target")
-            if t:
-                where = "excluded" if t.get("rank") is None else f"rank {t['rank']}, score {t['similarity']:.3f}"
-                out += ["", f"Expected answer {md_cell(t['word'])}: {where}."]
-        else:
-            words = e.query["words"]
-            out.append("| | " + " | ".join(md_cell(w) for w in words) + " |")
-            out.append("| --- |" + " ---: |" * len(words))
-            for w, row in zip(words, e.result["matrix"], strict=True):
-                out.append(f"| {md_cell(w)} | " + " | ".join(f"{v:.3f}" for v in row) + " |")
-            if e.result.get("odd_one_out") is not None:
-                out += ["", f"Odd one out: {md_cell(e.result['odd_one_out'])}."]
+        for caption, table in e.result.tables():
+            out.append("")
+            if caption:
+                out += [md_cell(caption), ""]
+            out += md_table(table)
+        notes = e.result.notes()
+        if notes:
+            out += [""] + [md_cell(n) + "  " for n in notes]
         out.append("")
     return "\n".join(out)
+
+
+def _count(n: int) -> str:
+    return f"{n} entr{'y' if n == 1 else 'ies'}"
 
 
 def csv_cell(s: str) -> str:
@@ -166,43 +146,41 @@ def csv_cell(s: str) -> str:
     return v
 
 
-CSV_HEADER = [
-    "entry",
-    "kind",
-    "query",
-    "parameters",
-    "vector_set",
-    "rank",
-    "word",
-    "other_word",
-    "score",
-    "note",
-]
+CSV_HEADER = ["entry", "kind", "query", "parameters", "vector_set", "note"]
 
 
 def to_csv(entries: list[Entry]) -> str:
+    """One row per result row: the entry's columns, then the union of the results' own columns."""
+    records = [(e, e.result.records()) for e in entries]
+    extra: list[str] = []
+    for _, recs in records:
+        for r in recs:
+            extra.extend(k for k in r if k not in extra)
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\r\n")
-    w.writerow(CSV_HEADER)
-    for e in entries:
+    w.writerow(CSV_HEADER + extra)
+    for e, recs in records:
         base = [
             str(e.id),
             e.kind,
             csv_cell(e.title),
             csv_cell(_params(e)),
             csv_cell(os.path.basename(str(e.vector_set.get("path", "")))),
+            csv_cell(e.note),
         ]
-        note = csv_cell(e.note)
-        if e.kind in ("neighbours", "arithmetic"):
-            for r in e.result["rows"]:
-                w.writerow(base + [str(r["rank"]), csv_cell(r["word"]), "", f"{r['similarity']:.6f}", note])
-        else:
-            words = e.query["words"]
-            for i, a in enumerate(words):
-                for j, b in enumerate(words):
-                    if i < j:
-                        w.writerow(base + ["", csv_cell(a), csv_cell(b), f"{e.result['matrix'][i][j]:.6f}", note])
+        for r in recs:
+            w.writerow(base + [_csv_value(r.get(k)) for k in extra])
     return buf.getvalue()
+
+
+def _csv_value(v: Any) -> str:
+    if v is None:
+        return ""
+    if isinstance(v, float):
+        return f"{v:.6f}"
+    if isinstance(v, bool | int):
+        return str(v)
+    return csv_cell(str(v))
 
 
 _JSON_UNSAFE = re.compile(r"[\x7f-\x9f\u061c\u200b-\u200f\u202a-\u202e\u2060-\u206f\ufeff]")
@@ -257,16 +235,24 @@ def import_json(path: str | os.PathLike[str], nb: Notebook) -> int:
         raise UnreadableFileError(str(p), f"not a JSON notebook export ({exc})") from None
     if not isinstance(doc, dict) or doc.get("format") != JSON_FORMAT:
         raise UnreadableFileError(str(p), f'not a wordkin notebook export (no "format": "{JSON_FORMAT}")')
-    if doc.get("version") != JSON_VERSION:
+    if doc.get("version") not in (1, JSON_VERSION):
         raise UnreadableFileError(str(p), f"export version {doc.get('version')} is not {JSON_VERSION}")
     try:
-        entries = [Entry.from_json(d) for d in doc.get("entries", [])]
+        raw = doc.get("entries", [])
+        if doc["version"] == 1:
+            raw = [_from_v1(d) for d in raw]
+        entries = [Entry.from_json(d) for d in raw]
     except (KeyError, TypeError, ValueError) as exc:
         raise UnreadableFileError(str(p), f"an entry is malformed ({exc})") from None
     keep_ids = not nb.entries(include_deleted=True)
     for e in entries:
         nb.add(e, keep_position=True, keep_id=keep_ids)
     return len(entries)
+
+
+def _from_v1(d: dict[str, Any]) -> dict[str, Any]:
+    q, r = upgrade_v1(d["kind"], d["query"], d["params"], d["result"])
+    return {**d, "query": q, "result": r}
 
 
 def now_iso() -> str:

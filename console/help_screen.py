@@ -18,7 +18,7 @@ def binding_rows(scopes: Iterable[tuple[str, Iterable[BindingType]]]) -> list[tu
     for where, bindings in scopes:
         for b in bindings:
             if not isinstance(b, Binding):
-                b = Binding(*b)  # type: ignore[misc]
+                b = Binding(*b)
             desc = b.description or b.action
             keys = ", ".join(k.strip() for k in b.key.split(","))
             rows.append((where, keys, desc))
@@ -37,7 +37,7 @@ class HelpScreen(ModalScreen[None]):
     def compose(self) -> ComposeResult:
         with Vertical(id="help-box"):
             yield Static(Text("wordkin keys  (Escape closes)", style="bold"))
-            table: DataTable = DataTable(id="help-table", cursor_type="row", zebra_stripes=True)
+            table: DataTable[Text] = DataTable(id="help-table", cursor_type="row", zebra_stripes=True)
             table.add_columns("where", "keys", "what")
             for where, keys, what in self.rows:
                 table.add_row(Text(where), Text(keys, style="bold"), Text(what))

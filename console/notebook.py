@@ -12,21 +12,58 @@ import json
 import os
 import sqlite3
 import time
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from index.errors import UnreadableFileError, WordkinError
-from index.results import CalcResult, NeighbourResult, SimilarityResult
+from wordkin.index.errors import UnreadableFileError, WordkinError
+from wordkin.index.queries import Query, Result, query_from_json, result_from_json
+
+from .legacy import upgrade_v1
+
+COLUMNS = "id, position, kind, query, vector_set, result, note, created, updated"
 
 APPLICATION_ID = 0x776B6E62  # "wknb"
-SCHEMA_VERSION = 1
-KINDS = ("neighbours", "arithmetic", "similarity")
+SCHEMA_VERSION = 2
 SQLITE_MAGIC = b"SQLite format 3\x00"
 
-MIGRATIONS: dict[int, list[str]] = {
-    # version -> statements that bring a notebook of version-1 up to it
+
+def _upgrade_entries_v2(con: sqlite3.Connection) -> None:
+    """Version 2 stores each entry's whole query value and its result as the engine writes them (the kind's
+    CHECK list is gone: kinds come from the registry). Version-1 rows are converted by ``legacy``."""
+    con.execute(
+        """CREATE TABLE entries_v2 (
+            id INTEGER PRIMARY KEY AUTOINCREMENT,
+            position REAL NOT NULL,
+            kind TEXT NOT NULL,
+            query TEXT NOT NULL,
+            vector_set TEXT NOT NULL,
+            result TEXT NOT NULL,
+            note TEXT NOT NULL DEFAULT '',
+            created TEXT NOT NULL,
+            updated TEXT NOT NULL,
+            deleted INTEGER NOT NULL DEFAULT 0
+        )"""
+    )
+    rows = con.execute(
+        "SELECT id, position, kind, query, params, vector_set, result, note, created, updated, deleted FROM entries"
+    ).fetchall()
+    for r in rows:
+        query, result = upgrade_v1(r[2], json.loads(r[3]), json.loads(r[4]), json.loads(r[6]))
+        con.execute(
+            "INSERT INTO entries_v2 VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            (r[0], r[1], r[2], _dump(query), r[5], _dump(result), r[7], r[8], r[9], r[10]),
+        )
+    con.execute("DROP TABLE entries")
+    con.execute("ALTER TABLE entries_v2 RENAME TO entries")
+    con.execute("CREATE INDEX entries_position ON entries (deleted, position)")
+
+
+#: version -> steps (SQL statements or functions of the connection) that bring a notebook of version-1 up to it.
+#: Never edit an old version; add one.
+MIGRATIONS: dict[int, list[str | Callable[[sqlite3.Connection], None]]] = {
     1: [
         """CREATE TABLE entries (
             id INTEGER PRIMARY KEY AUTOINCREMENT,
@@ -43,6 +80,7 @@ MIGRATIONS: dict[int, list[str]] = {
         )""",
         "CREATE INDEX entries_position ON entries (deleted, position)",
     ],
+    2: [_upgrade_entries_v2],
 }
 
 
@@ -61,28 +99,38 @@ def now() -> str:
 
 @dataclass
 class Entry:
-    """One saved query. ``result`` holds the rows exactly as shown, plus kind-specific extras."""
+    """One saved query: the query value, its result as shown, the vector set that answered it and a note."""
 
-    kind: str
-    query: dict[str, Any]
-    params: dict[str, Any]
+    query: Query
+    result: Result
     vector_set: dict[str, Any]
-    result: dict[str, Any]
     note: str = ""
     id: int | None = None
     position: float = 0.0
     created: str = field(default_factory=now)
     updated: str = ""
 
+    @classmethod
+    def of(cls, result: Result, vs: Any, note: str = "") -> Entry:
+        """The entry that saves ``result`` (answered by vector set ``vs``)."""
+        return cls(result.query, result, vector_set_info(vs), note)
+
+    @property
+    def kind(self) -> str:
+        return self.query.kind
+
+    @property
+    def title(self) -> str:
+        return self.query.title()
+
     def to_json(self) -> dict[str, Any]:
         return {
             "id": self.id,
             "position": self.position,
             "kind": self.kind,
-            "query": self.query,
-            "params": self.params,
+            "query": self.query.to_json(),
+            "result": self.result.to_json(),
             "vector_set": self.vector_set,
-            "result": self.result,
             "note": self.note,
             "created": self.created,
             "updated": self.updated or self.created,
@@ -90,28 +138,24 @@ class Entry:
 
     @classmethod
     def from_json(cls, d: dict[str, Any]) -> Entry:
-        if d.get("kind") not in KINDS:
-            raise ValueError(f"unknown entry kind {d.get('kind')!r}")
+        """An entry as ``to_json`` wrote it; ``ValueError`` (or ``KeyError``/``TypeError``) when it is not one."""
+        if not isinstance(d, dict):
+            raise ValueError("an entry must be an object")
+        query = query_from_json(d["query"])
+        if d.get("kind", query.kind) != query.kind:
+            raise ValueError(f"entry kind {d.get('kind')!r} does not match its query ({query.kind})")
+        if not isinstance(d["result"], dict) or not isinstance(d.get("vector_set", {}), dict):
+            raise ValueError("result and vector_set must be objects")
         return cls(
-            kind=d["kind"],
-            query=dict(d["query"]),
-            params=dict(d["params"]),
-            vector_set=dict(d["vector_set"]),
-            result=dict(d["result"]),
+            query=query,
+            result=result_from_json(query, d["result"]),
+            vector_set=dict(d.get("vector_set", {})),
             note=str(d.get("note", "")),
             id=d.get("id"),
             position=float(d.get("position", 0.0)),
             created=str(d["created"]),
             updated=str(d.get("updated", "")),
         )
-
-    @property
-    def title(self) -> str:
-        if self.kind == "neighbours":
-            return f"neighbours of {self.query['word']}"
-        if self.kind == "arithmetic":
-            return str(self.query["expression"])
-        return "similarity of " + ", ".join(self.query["words"])
 
 
 def vector_set_info(vs: Any) -> dict[str, Any]:
@@ -122,61 +166,6 @@ def vector_set_info(vs: Any) -> dict[str, Any]:
         "dims": vs.dims,
         "format": vs.format,
     }
-
-
-def _rows(results: Any) -> list[dict[str, Any]]:
-    return [{"rank": r.rank, "word": r.word, "similarity": r.similarity} for r in results]
-
-
-def entry_from_result(res: Any, vs: Any, note: str = "") -> Entry:
-    """The notebook entry for a result object of the engine."""
-    info = vector_set_info(vs)
-    if isinstance(res, NeighbourResult):
-        return Entry(
-            "neighbours",
-            {"word": res.query},
-            {"k": res.k, "top": res.top, "mode": res.mode},
-            info,
-            {"rows": _rows(res.results)},
-            note,
-        )
-    if isinstance(res, CalcResult):
-        extra: dict[str, Any] = {"rows": _rows(res.results), "excluded": list(res.excluded)}
-        if res.target is not None:
-            extra["target"] = {
-                "word": res.target,
-                "rank": res.target_rank,
-                "similarity": res.target_similarity,
-            }
-        return Entry(
-            "arithmetic",
-            {"expression": res.expression},
-            {
-                "k": res.k,
-                "method": res.method,
-                "top": res.top,
-                "mode": res.mode,
-                "keep_inputs": not res.excluded,
-            },
-            info,
-            extra,
-            note,
-        )
-    if isinstance(res, SimilarityResult):
-        return Entry(
-            "similarity",
-            {"words": list(res.words)},
-            {},
-            info,
-            {
-                "matrix": [list(r) for r in res.matrix],
-                "odd_one_out": res.odd_one_out,
-                "odd_scores": list(res.odd_scores),
-                "pair_ranks": [list(r) for r in res.pair_ranks],
-            },
-            note,
-        )
-    raise WordkinError(f"cannot save a {type(res).__name__}")
 
 
 def _create(path: Path) -> None:
@@ -271,7 +260,10 @@ class Notebook:
                 self.con.execute(f"PRAGMA application_id={APPLICATION_ID}")
             for v in range(version + 1, SCHEMA_VERSION + 1):
                 for stmt in MIGRATIONS[v]:
-                    self.con.execute(stmt)
+                    if isinstance(stmt, str):
+                        self.con.execute(stmt)
+                    else:
+                        stmt(self.con)
                 self.con.execute(f"PRAGMA user_version={v}")
 
         self._write(step)
@@ -315,7 +307,7 @@ class Notebook:
     # -- reading ---------------------------------------------------------------------------------------
 
     def entries(self, include_deleted: bool = False) -> list[Entry]:
-        sql = "SELECT id, position, kind, query, params, vector_set, result, note, created, updated FROM entries"
+        sql = f"SELECT {COLUMNS} FROM entries"
         if not include_deleted:
             sql += " WHERE deleted = 0"
         rows = self.con.execute(sql + " ORDER BY position, id").fetchall()
@@ -323,8 +315,7 @@ class Notebook:
 
     def get(self, entry_id: int) -> Entry:
         r = self.con.execute(
-            "SELECT id, position, kind, query, params, vector_set, result, note, created, updated FROM entries "
-            "WHERE id = ?",
+            f"SELECT {COLUMNS} FROM entries WHERE id = ?",
             (entry_id,),
         ).fetchone()
         if r is None:
@@ -332,18 +323,20 @@ class Notebook:
         return self._entry(r)
 
     def _entry(self, r: tuple[Any, ...]) -> Entry:
-        return Entry(
-            id=r[0],
-            position=r[1],
-            kind=r[2],
-            query=json.loads(r[3]),
-            params=json.loads(r[4]),
-            vector_set=json.loads(r[5]),
-            result=json.loads(r[6]),
-            note=r[7],
-            created=r[8],
-            updated=r[9],
-        )
+        try:
+            query = query_from_json(json.loads(r[3]))
+            return Entry(
+                id=r[0],
+                position=r[1],
+                query=query,
+                result=result_from_json(query, json.loads(r[5])),
+                vector_set=json.loads(r[4]),
+                note=r[6],
+                created=r[7],
+                updated=r[8],
+            )
+        except (KeyError, TypeError, ValueError) as exc:
+            raise UnreadableFileError(str(self.path), f"entry {r[0]} is damaged ({exc}); left untouched") from None
 
     # -- writing ---------------------------------------------------------------------------------------
 
@@ -356,16 +349,15 @@ class Notebook:
                 last = self.con.execute("SELECT MAX(position) FROM entries").fetchone()[0]
                 pos = (last or 0.0) + 1.0
             cur = self.con.execute(
-                "INSERT INTO entries (id, position, kind, query, params, vector_set, result, note, created, updated) "
-                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+                "INSERT INTO entries (id, position, kind, query, vector_set, result, note, created, updated) "
+                "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
                 (
                     e.id if keep_id else None,
                     pos,
                     e.kind,
-                    _dump(e.query),
-                    _dump(e.params),
+                    _dump(e.query.to_json()),
                     _dump(e.vector_set),
-                    _dump(e.result),
+                    _dump(e.result.to_json()),
                     e.note,
                     e.created,
                     e.updated or e.created,

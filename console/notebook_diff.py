@@ -1,79 +1,22 @@
-"""Re-run a saved entry against the vector set now open and say what changed (gained, lost, moved)."""
+"""Re-run a saved entry against the session now open and say what changed (gained, lost, moved, changed cells)."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
 from typing import Any
 
-from .notebook import Entry, entry_from_result
+from wordkin.index.query_base import Diff
+from wordkin.index.session import Session
+
+from .notebook import Entry
 from .safe_text import visible
 
 
-def rerun(entry: Entry, vs: Any, ann: Any = None) -> Entry:
-    """The same query with the same parameters, answered by ``vs``."""
-    if entry.kind == "neighbours":
-        from index.search import neighbours
-
-        p = entry.params
-        mode = "exact" if p.get("mode") == "exact" else "auto"
-        res: Any = neighbours(vs, entry.query["word"], int(p.get("k", 10)), ann=ann, top=p.get("top"), mode=mode)
-    elif entry.kind == "arithmetic":
-        from index.analogy import calc
-
-        p = entry.params
-        res = calc(
-            vs,
-            entry.query["expression"],
-            int(p.get("k", 10)),
-            method=p.get("method", "add"),
-            top=p.get("top"),
-            keep_inputs=bool(p.get("keep_inputs")),
-            ann=ann,
-        )
-    else:
-        from index.similarity import similarity
-
-        res = similarity(vs, list(entry.query["words"]))
-    return entry_from_result(res, vs, note=entry.note)
-
-
-@dataclass
-class Diff:
-    gained: list[tuple[str, int]] = field(default_factory=list)  # (word, new rank)
-    lost: list[tuple[str, int]] = field(default_factory=list)  # (word, old rank)
-    moved: list[tuple[str, int, int]] = field(default_factory=list)  # (word, old rank, new rank)
-    same: int = 0
-    cells: list[tuple[str, str, float, float]] = field(default_factory=list)  # similarity: (a, b, old, new)
-
-    @property
-    def changed(self) -> bool:
-        return bool(self.gained or self.lost or self.moved or self.cells)
-
-
-def diff(old: Entry, new: Entry, tolerance: float = 5e-4) -> Diff:
-    d = Diff()
-    if old.kind == "similarity":
-        words = old.query["words"]
-        for i, a in enumerate(words):
-            for j, b in enumerate(words):
-                if i < j:
-                    o, n = old.result["matrix"][i][j], new.result["matrix"][i][j]
-                    if abs(o - n) > tolerance:
-                        d.cells.append((a, b, o, n))
-                    else:
-                        d.same += 1
-        return d
-    before = {r["word"]: r["rank"] for r in old.result.get("rows", [])}
-    after = {r["word"]: r["rank"] for r in new.result.get("rows", [])}
-    for w, r in after.items():
-        if w not in before:
-            d.gained.append((w, r))
-        elif before[w] != r:
-            d.moved.append((w, before[w], r))
-        else:
-            d.same += 1
-    d.lost = [(w, r) for w, r in before.items() if w not in after]
-    return d
+def rerun(entry: Entry, session: Session) -> tuple[Entry, Diff]:
+    """The saved query, with every option it was saved with, answered again; pinned to exact search where the
+    saved answer was exact. Returns the new entry (not saved) and its difference from the saved one."""
+    res = entry.query.with_mode(entry.result.mode).run(session)
+    new = Entry.of(res, session.vectors, note=entry.note)
+    return new, entry.result.diff(res)
 
 
 def diff_text(d: Diff, old_set: dict[str, Any], new_set: dict[str, Any]) -> str:

@@ -2,26 +2,29 @@
 
 from __future__ import annotations
 
+from typing import ClassVar
+
 from rich.cells import cell_len
 from rich.text import Text
-from textual import on, work
+from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
-from textual.message import Message
-from textual.widgets import Input, Label, Select, Static
+from textual.containers import Horizontal
+from textual.widgets import Checkbox, Input, Label, Select, Static
 
-from index.analogy import calc
-from index.errors import WordkinError
-from index.expr import ExprError, parse, words_of
-from index.results import CalcResult
+from wordkin.index.errors import UsageError, WordkinError
+from wordkin.index.expr import ExprError, parse, to_text, words_of
+from wordkin.index.queries import Arithmetic, CalcResult, Query, Result
 
+from .pane_base import QueryPane
 from .safe_text import visible
-from .widgets import NeighbourTable, error_text, word_text
+from .widgets import NeighbourTable, error_text, int_option, int_value, word_text
 
 
-class ArithmeticPane(Vertical):
+class ArithmeticPane(QueryPane):
     """``paris - france + italy``, ``0.5*harbour + quay``, ``man : king :: woman : ?``."""
+
+    kind: ClassVar[type[Query]] = Arithmetic
 
     BINDINGS = [
         Binding("ctrl+s", "save", "Save to notebook", id="arith.save"),
@@ -29,30 +32,58 @@ class ArithmeticPane(Vertical):
         Binding("escape", "focus_input", "Edit the expression", show=False, id="arith.focus"),
     ]
 
-    class CalcDone(Message):
-        def __init__(self, result: CalcResult) -> None:
-            super().__init__()
-            self.result = result
-
-    class CalcFailed(Message):
-        def __init__(self, error: WordkinError) -> None:
-            super().__init__()
-            self.error = error
-
-    def __init__(self, **kw) -> None:  # type: ignore[no-untyped-def]
-        super().__init__(**kw)
-        self.result: CalcResult | None = None
-
     def compose(self) -> ComposeResult:
         yield Input(placeholder="e.g.  paris - france + italy   or   hotel : hotels :: inn : ?", id="ar-expr")
         yield Static("", id="ar-check", classes="check")
         with Horizontal(classes="options"):
-            yield Label("method")
             yield Select([("3CosAdd", "add"), ("3CosMul", "mul")], value="add", allow_blank=False, id="ar-method")
             yield Label("k")
             yield Input("10", id="ar-k", type="integer", classes="small")
+            yield Label("top")
+            yield Input("", id="ar-top", type="integer", placeholder="all", classes="small")
+            yield Checkbox("keep inputs", id="ar-keep")
+            yield Checkbox("exact", id="ar-exact")
         yield Static("", id="ar-message", classes="message")
         yield NeighbourTable(id="ar-table")
+
+    # -- the query value -------------------------------------------------------------------------------
+
+    def current_query(self) -> Arithmetic:
+        text = self.query_one("#ar-expr", Input).value
+        if not text.strip():
+            raise UsageError("type an expression")
+        return Arithmetic(
+            text,
+            int_value(self.query_one("#ar-k", Input), "k", 10),
+            str(self.query_one("#ar-method", Select).value),
+            int_option(self.query_one("#ar-top", Input), "top", None),
+            self.query_one("#ar-keep", Checkbox).value,
+            self.query_one("#ar-exact", Checkbox).value,
+        )
+
+    def load_query(self, query: Query) -> None:
+        assert isinstance(query, Arithmetic)
+        values = {
+            "#ar-expr": query.expression,
+            "#ar-k": str(query.k),
+            "#ar-top": "" if query.top is None else str(query.top),
+        }
+        for sel, value in values.items():
+            box = self.query_one(sel, Input)
+            if box.value != value:
+                box.value = value
+        sel_m = self.query_one("#ar-method", Select)
+        if sel_m.value != query.method:
+            with sel_m.prevent(Select.Changed):
+                sel_m.value = query.method
+        for sel, flag in (("#ar-keep", query.keep_inputs), ("#ar-exact", query.exact)):
+            cb = self.query_one(sel, Checkbox)
+            if cb.value != flag:
+                with cb.prevent(Checkbox.Changed):
+                    cb.value = flag
+        self.ask(query)
+
+    # -- actions and events ----------------------------------------------------------------------------
 
     def action_focus_input(self) -> None:
         self.query_one("#ar-expr", Input).focus()
@@ -60,10 +91,6 @@ class ArithmeticPane(Vertical):
     def action_toggle_method(self) -> None:
         sel = self.query_one("#ar-method", Select)
         sel.value = "mul" if sel.value == "add" else "add"
-
-    def action_save(self) -> None:
-        if self.result is not None:
-            self.app.save_to_notebook(self.result)  # type: ignore[attr-defined]
 
     @on(Input.Changed, "#ar-expr")
     def _check(self, event: Input.Changed) -> None:
@@ -79,9 +106,8 @@ class ArithmeticPane(Vertical):
             # The input text starts three cells in (border and padding); the caret lines up under the column.
             pad = cell_len(visible(text[: exc.column])) + 3
             return Text(" " * pad + "^ " + visible(exc.expected), style="bold red", no_wrap=True)
-        vs = self.app.vectors  # type: ignore[attr-defined]
-        if vs is not None:
-            missing = [w for w in words_of(tree) if vs.find(self.app.word_from_display(w)) is None]  # type: ignore[attr-defined]
+        if self.session is not None:
+            missing = [w for w in words_of(tree) if self.session.vectors.find(self.word(w)) is None]
             if missing:
                 t = Text("not in the vocabulary: ", style="yellow")
                 for i, w in enumerate(missing):
@@ -89,65 +115,44 @@ class ArithmeticPane(Vertical):
                         t.append(", ")
                     t.append_text(word_text(w, "bold"))
                 return t
-        return Text("✓ " + visible(_canonical(tree)), style="green", no_wrap=True, overflow="ellipsis")
+        return Text("✓ " + visible(to_text(tree)), style="green", no_wrap=True, overflow="ellipsis")
 
-    @on(Input.Submitted, "#ar-expr, #ar-k")
+    @on(Input.Submitted, "#ar-expr, #ar-k, #ar-top")
     def _submitted(self, event: Input.Submitted) -> None:
-        text = self.query_one("#ar-expr", Input).value
-        if not text.strip():
-            return
-        if self.app.vectors is None:  # type: ignore[attr-defined]
-            self._message(Text("the vectors are still loading…", style="italic"))
-            return
-        try:
-            k = int(self.query_one("#ar-k", Input).value or 10)
-        except ValueError:
-            k = 10
-        method = str(self.query_one("#ar-method", Select).value)
-        self.compute(text, k, method)
+        self.submit()
 
     @on(Select.Changed, "#ar-method")
-    def _method_changed(self, event: Select.Changed) -> None:
-        if self.result is not None:
-            self._submitted(None)  # type: ignore[arg-type]
+    @on(Checkbox.Changed, "#ar-keep, #ar-exact")
+    def _option_changed(self) -> None:
+        if self.query_one("#ar-expr", Input).value.strip():
+            self.submit()
 
-    @work(thread=True, exclusive=True, exit_on_error=False, group="arith", description="expression")
-    def compute(self, text: str, k: int, method: str) -> None:
-        try:
-            res = calc(self.app.vectors, text, k, method=method, ann=self.app.ann)  # type: ignore[attr-defined]
-        except WordkinError as exc:
-            self.post_message(self.CalcFailed(exc))
-            return
-        self.post_message(self.CalcDone(res))
+    # -- showing ---------------------------------------------------------------------------------------
 
-    def on_arithmetic_pane_calc_done(self, msg: CalcDone) -> None:
-        res = msg.result
-        self.result = res
-        self.query_one("#ar-table", NeighbourTable).show(res.results)
-        t = Text.assemble((visible(res.expression), "bold"), (f"  ·  {res.method}  ·  {res.mode}", "dim"))
-        if res.excluded:
+    def show_result(self, result: Result) -> None:
+        assert isinstance(result, CalcResult)
+        self.query_one("#ar-table", NeighbourTable).show(result.rows)
+        opts = ", ".join(result.query.options())
+        how = "index" if result.mode == "ann" else "exact"
+        t = Text.assemble((visible(result.expression), "bold"), (f"  ·  {opts}  ·  {how}", "dim"))
+        if result.excluded:
             t.append("\nexcluded: ", style="dim")
-            t.append(", ".join(visible(w) for w in res.excluded))
-        if res.target is not None:
+            t.append(", ".join(visible(w) for w in result.excluded))
+        if result.target is not None:
             t.append("\n")
-            t.append_text(word_text(res.target, "bold"))
-            if res.target_rank is None:
+            t.append_text(word_text(result.target, "bold"))
+            if result.target_rank is None:
                 t.append(" is one of the excluded words")
             else:
                 t.append(
-                    f" ranks {res.target_rank}, score {res.target_similarity:.3f}",
-                    style="green" if res.target_rank == 1 else "yellow",
+                    f" ranks {result.target_rank}, score {result.target_similarity:.3f}",
+                    style="green" if result.target_rank == 1 else "yellow",
                 )
-        self._message(t)
+        self.show_message(t)
 
-    def on_arithmetic_pane_calc_failed(self, msg: CalcFailed) -> None:
-        self._message(error_text(msg.error))
+    def show_failure(self, error: WordkinError) -> None:
+        self.query_one("#ar-table", NeighbourTable).clear()
+        self.show_message(error_text(error))
 
-    def _message(self, text: Text) -> None:
+    def show_message(self, text: Text) -> None:
         self.query_one("#ar-message", Static).update(text)
-
-
-def _canonical(tree) -> str:  # type: ignore[no-untyped-def]
-    from index.expr import to_text
-
-    return to_text(tree)

@@ -2,42 +2,30 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from typing import ClassVar
 
 from rich.text import Text
 from textual import on, work
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Horizontal, Vertical
+from textual.containers import Horizontal
 from textual.message import Message
 from textual.widgets import Checkbox, DataTable, Input, Label, Static
 
-from index.errors import WordkinError
-from index.results import Neighbour, NeighbourResult
-from index.search import mutual, neighbours
+from wordkin.index.errors import UsageError, WordkinError
+from wordkin.index.queries import NeighbourResult, Neighbours, Query, Result
+from wordkin.index.search import mutual
+from wordkin.index.session import Session
 
+from .pane_base import QueryPane
 from .safe_text import visible
-from .widgets import NeighbourTable, VocabSuggester, error_text, word_text
+from .widgets import NeighbourTable, VocabSuggester, error_text, int_option, int_value, word_text
 
 
-@dataclass(frozen=True)
-class NeighbourQuery:
-    word: str
-    k: int = 10
-    top: int | None = None
-    hide_forms: bool = False
-    fold_case: bool = False
-
-
-def hide_forms(query: str, rows: list[Neighbour], k: int) -> list[Neighbour]:
-    """Drop results that merely contain the query or are contained in it (inflections, plurals, case variants)."""
-    q = query.casefold()
-    kept = [r for r in rows if q not in r.word.casefold() and r.word.casefold() not in q]
-    return [Neighbour(i + 1, r.word, r.similarity) for i, r in enumerate(kept[:k])]
-
-
-class NeighboursPane(Vertical):
+class NeighboursPane(QueryPane):
     """Nearest neighbours of a word, with drill-down and back/forward history."""
+
+    kind: ClassVar[type[Query]] = Neighbours
 
     BINDINGS = [
         Binding("ctrl+b", "back", "Back", id="neighbours.back"),
@@ -46,29 +34,18 @@ class NeighboursPane(Vertical):
         Binding("escape", "focus_input", "Edit the query", show=False, id="neighbours.focus"),
     ]
 
-    class NeighboursFound(Message):
-        def __init__(self, query: NeighbourQuery, result: NeighbourResult, query_row: int) -> None:
-            super().__init__()
-            self.query = query
-            self.result = result
-            self.query_row = query_row
-
     class MutualMarked(Message):
+        """Which rows of ``result`` are mutual neighbours (the query is in their top k too)."""
+
         def __init__(self, result: NeighbourResult, marks: list[bool]) -> None:
             super().__init__()
             self.result = result
             self.marks = marks
 
-    class QueryFailed(Message):
-        def __init__(self, error: WordkinError) -> None:
-            super().__init__()
-            self.error = error
-
-    def __init__(self, **kw) -> None:  # type: ignore[no-untyped-def]
+    def __init__(self, **kw: object) -> None:
         super().__init__(**kw)
-        self.history: list[NeighbourQuery] = []
+        self.history: list[Neighbours] = []
         self.position = -1
-        self.result: NeighbourResult | None = None
         self.marks: list[bool] = []
 
     def compose(self) -> ComposeResult:
@@ -80,12 +57,52 @@ class NeighboursPane(Vertical):
             yield Input("", id="nb-top", type="integer", placeholder="all", classes="small")
             yield Checkbox("hide forms", id="nb-hide")
             yield Checkbox("fold case", id="nb-fold")
+            yield Checkbox("exact", id="nb-exact")
         yield Static("", id="nb-message", classes="message")
         yield NeighbourTable(id="nb-table")
 
-    def on_vectors_ready(self, completion: list[str]) -> None:
-        """``completion``: the sorted displayable vocabulary (built off the UI thread)."""
-        self.query_one("#nb-word", Input).suggester = VocabSuggester(completion)
+    def session_ready(self) -> None:
+        if self.vocab is not None:
+            self.query_one("#nb-word", Input).suggester = VocabSuggester(self.vocab.completion)
+
+    # -- the query value -------------------------------------------------------------------------------
+
+    def current_query(self) -> Neighbours:
+        text = self.query_one("#nb-word", Input).value.strip()
+        if not text:
+            raise UsageError("type a word")
+        return Neighbours(
+            self.word(text),
+            int_value(self.query_one("#nb-k", Input), "k", 10),
+            int_option(self.query_one("#nb-top", Input), "top", None),
+            self.query_one("#nb-hide", Checkbox).value,
+            self.query_one("#nb-fold", Checkbox).value,
+            self.query_one("#nb-exact", Checkbox).value,
+        )
+
+    def load_query(self, query: Query) -> None:
+        assert isinstance(query, Neighbours)
+        self._set_widgets(query)
+        self._record(query)
+        self.ask(query)
+
+    def _set_widgets(self, q: Neighbours) -> None:
+        values = {"#nb-word": visible(q.word), "#nb-k": str(q.k), "#nb-top": "" if q.top is None else str(q.top)}
+        for sel, value in values.items():
+            box = self.query_one(sel, Input)
+            if box.value != value:
+                with box.prevent(Input.Changed):
+                    box.value = value
+        for sel, flag in (("#nb-hide", q.hide_forms), ("#nb-fold", q.fold_case), ("#nb-exact", q.exact)):
+            cb = self.query_one(sel, Checkbox)
+            if cb.value != flag:
+                with cb.prevent(Checkbox.Changed):
+                    cb.value = flag
+
+    def _record(self, q: Neighbours) -> None:
+        del self.history[self.position + 1 :]
+        self.history.append(q)
+        self.position = len(self.history) - 1
 
     # -- actions ---------------------------------------------------------------------------------------
 
@@ -95,114 +112,74 @@ class NeighboursPane(Vertical):
     def action_back(self) -> None:
         if self.position > 0:
             self.position -= 1
-            self._run(self.history[self.position], record=False)
+            self._set_widgets(self.history[self.position])
+            self.ask(self.history[self.position])
 
     def action_forward(self) -> None:
         if self.position < len(self.history) - 1:
             self.position += 1
-            self._run(self.history[self.position], record=False)
-
-    def action_save(self) -> None:
-        if self.result is not None:
-            self.app.save_to_notebook(self.result)  # type: ignore[attr-defined]
+            self._set_widgets(self.history[self.position])
+            self.ask(self.history[self.position])
 
     # -- events ----------------------------------------------------------------------------------------
 
     @on(Input.Submitted, "#nb-word, #nb-k, #nb-top")
     def _submitted(self, event: Input.Submitted) -> None:
-        text = self.query_one("#nb-word", Input).value.strip()
-        if text:
-            self.ask(text)
+        try:
+            q = self.current_query()
+        except UsageError as exc:
+            self.post_message(self.Failed(None, exc))
+            return
+        self._record(q)
+        self.ask(q)
+
+    @on(Checkbox.Changed, "#nb-hide, #nb-fold, #nb-exact")
+    def _option_changed(self, event: Checkbox.Changed) -> None:
+        if self.query_one("#nb-word", Input).value.strip():
+            self._submitted(None)  # type: ignore[arg-type]
 
     @on(DataTable.RowSelected, "#nb-table")
     def _drill(self, event: DataTable.RowSelected) -> None:
-        if self.result is None:
+        res = self.result
+        if not isinstance(res, NeighbourResult):
             return
         i = int(str(event.row_key.value))
-        if i < len(self.result.results):
-            self.ask(self.result.results[i].word, raw=True)
+        if i < len(res.rows):
+            q = Neighbours(res.rows[i].word, res.query.k, res.query.top, res.query.hide_forms, False, res.query.exact)
+            self.load_query(q)
 
-    def ask(self, text: str, raw: bool = False) -> None:
-        """Query ``text`` (as typed, or a raw vocabulary word when ``raw``) with the options now set."""
-        word = text if raw else self.app.word_from_display(text)  # type: ignore[attr-defined]
-        try:
-            k = int(self.query_one("#nb-k", Input).value or 10)
-            top_s = self.query_one("#nb-top", Input).value.strip()
-            top = int(top_s) if top_s else None
-        except ValueError:
-            self._message(Text("k and top must be whole numbers", style="bold red"))
-            return
-        q = NeighbourQuery(
-            word,
-            k,
-            top,
-            self.query_one("#nb-hide", Checkbox).value,
-            self.query_one("#nb-fold", Checkbox).value,
-        )
-        self._run(q, record=True)
+    # -- showing ---------------------------------------------------------------------------------------
 
-    def _run(self, q: NeighbourQuery, record: bool) -> None:
-        if record:
-            del self.history[self.position + 1 :]
-            self.history.append(q)
-            self.position = len(self.history) - 1
-        box = self.query_one("#nb-word", Input)
-        shown = visible(q.word)
-        if box.value != shown:
-            with box.prevent(Input.Changed):
-                box.value = shown
-        if self.app.vectors is None:  # type: ignore[attr-defined]
-            self._message(Text("the vectors are still loading…", style="italic"))
-            return
-        self.find(q)
-
-    @work(thread=True, exclusive=True, exit_on_error=False, group="neighbours", description="neighbour query")
-    def find(self, q: NeighbourQuery) -> None:
-        vs = self.app.vectors  # type: ignore[attr-defined]
-        ann = self.app.ann  # type: ignore[attr-defined]
-        try:
-            word = q.word
-            if q.fold_case:
-                r = vs.find_folded(word)
-                if r is not None:
-                    word = vs.words[r]
-            extra = 40 if q.hide_forms else 0
-            res = neighbours(vs, word, q.k + extra, ann=ann, top=q.top)
-            if q.hide_forms:
-                rows = hide_forms(word, list(res.results), q.k)
-                res = NeighbourResult(res.query, q.k, res.mode, tuple(rows), res.top, res.elapsed_ms)
-            row = vs.row(word)
-        except WordkinError as exc:
-            self.post_message(self.QueryFailed(exc))
-            return
-        self.post_message(self.NeighboursFound(q, res, row))
-        marks = mutual(vs, row, [vs.row(n.word) for n in res.results], res.k)
-        self.post_message(self.MutualMarked(res, marks))
-
-    def on_neighbours_pane_neighbours_found(self, msg: NeighboursFound) -> None:
-        self.result = msg.result
+    def show_result(self, result: Result) -> None:
+        assert isinstance(result, NeighbourResult)
         self.marks = []
-        self.query_one(NeighbourTable).show(msg.result.results)
-        res = msg.result
+        self.query_one(NeighbourTable).show(result.rows)
+        opts = ", ".join(result.query.options())
+        how = "index" if result.mode == "ann" else "exact"
         head = Text.assemble(
             ("neighbours of ", ""),
-            word_text(res.query, "bold"),
-            (
-                f"  ·  {res.mode}  ·  k {res.k}"
-                + (f"  ·  top {res.top}" if res.top else "")
-                + f"  ·  {res.elapsed_ms:.1f} ms",
-                "dim",
-            ),
+            word_text(result.word, "bold"),
+            (f"  ·  {opts}  ·  {how}  ·  {result.elapsed_ms:.1f} ms", "dim"),
         )
-        self._message(head)
+        self.show_message(head)
+        if self.session is not None and result.rows:
+            self.mark_mutual(result, self.session)
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="mutual", description="mutual neighbours")
+    def mark_mutual(self, result: NeighbourResult, session: Session) -> None:
+        vs = session.vectors
+        rows = [vs.row(n.word) for n in result.rows]
+        marks = mutual(vs, vs.row(result.word), rows, result.k)
+        self.post_message(self.MutualMarked(result, marks))
 
     def on_neighbours_pane_mutual_marked(self, msg: MutualMarked) -> None:
         if msg.result is self.result:
             self.marks = msg.marks
             self.query_one(NeighbourTable).set_marks(msg.marks)
 
-    def on_neighbours_pane_query_failed(self, msg: QueryFailed) -> None:
-        self._message(error_text(msg.error))
+    def show_failure(self, error: WordkinError) -> None:
+        self.query_one(NeighbourTable).clear()
+        self.show_message(error_text(error))
 
-    def _message(self, text: Text) -> None:
+    def show_message(self, text: Text) -> None:
         self.query_one("#nb-message", Static).update(text)

@@ -1,7 +1,16 @@
-"""The notebook pane: saved entries as a list, the selected one in full, its note, delete/undo, move, re-run, export."""
+"""The notebook pane: saved entries as a list, the selected one in full, its note, delete/undo, move, re-run, export.
+
+Every read and write of the notebook file runs in one worker thread that takes operations from a queue in order
+and ends each with a message (``Loaded`` or ``Failed``); the UI thread never touches SQLite. When the file is locked
+by another writer (a ``wordkin near --save`` in another shell), the pane says "waiting for the notebook…" and the
+console goes on; the operation completes when the lock goes.
+"""
 
 from __future__ import annotations
 
+import queue
+from collections.abc import Callable
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -12,13 +21,27 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Select, Static
+from textual.worker import get_current_worker
 
-from index.errors import WordkinError
+from wordkin.index.errors import WordkinError
+from wordkin.index.query_base import Result
+from wordkin.index.session import Session
 
-from .export import FORMATS, render, write_file
-from .notebook import Entry, Notebook, entry_from_result, now
-from .notebook_diff import diff, diff_text, rerun
+from .export import FORMATS, render, text_entry, write_file
+from .notebook import Entry, Notebook, now
+from .notebook_diff import diff_text, rerun
+from .pane_base import SessionChanged
 from .safe_text import visible
+
+#: An operation on the open notebook; returns the id of the entry to select afterwards (or None) and what to say.
+Operation = Callable[[Notebook], tuple[int | None, str]]
+BUSY_AFTER = 0.25
+
+
+@dataclass(frozen=True)
+class _Job:
+    op: Operation
+    failed_title: str
 
 
 class NotebookPane(Vertical):
@@ -34,21 +57,41 @@ class NotebookPane(Vertical):
         Binding("ctrl+down,right_square_bracket", "move(1)", "Move down", id="notebook.down"),
     ]
 
-    class EntrySaved(Message):
-        def __init__(self, entry_id: int) -> None:
-            super().__init__()
-            self.entry_id = entry_id
+    class Loaded(Message):
+        """The notebook was read (after an operation, if any): its entries, which to select, what to say."""
 
-    class NotebookFailed(Message):
-        def __init__(self, error: WordkinError) -> None:
+        def __init__(self, entries: list[Entry], where: Path, select: int | None, said: str) -> None:
+            super().__init__()
+            self.entries = entries
+            self.where = where
+            self.select = select
+            self.said = said
+
+    class Failed(Message):
+        """An operation on the notebook failed; nothing was changed."""
+
+        def __init__(self, error: WordkinError, title: str) -> None:
             super().__init__()
             self.error = error
+            self.title = title
+
+    class Rerun(Message):
+        """A saved entry was answered again; ``text`` says what changed."""
+
+        def __init__(self, entry: Entry, text: str) -> None:
+            super().__init__()
+            self.entry = entry
+            self.text = text
 
     def __init__(self, path: str | None = None, **kw: Any) -> None:
         super().__init__(**kw)
         self.path = path
         self.entries: list[Entry] = []
         self.undo_stack: list[int] = []
+        self.session: Session | None = None
+        self.where: Path | None = None
+        self.pending = 0
+        self._jobs: queue.Queue[_Job] = queue.Queue()
 
     def compose(self) -> ComposeResult:
         yield Static("", id="nbk-head", classes="message")
@@ -63,48 +106,106 @@ class NotebookPane(Vertical):
 
     def on_mount(self) -> None:
         t = self.query_one("#nbk-list", DataTable)
-        t.add_column(Text("#"), key="n", width=3)
+        t.add_column(Text("id"), key="n", width=4)
         t.add_column(Text("kind"), key="kind", width=10)
         t.add_column(Text("query"), key="query", width=30)
         t.add_column(Text("note"), key="note")
-        self.reload()
+        self.notebook_io()
+        self.submit(lambda nb: (None, ""), "notebook unreadable")
 
-    # -- the store -------------------------------------------------------------------------------------
+    def on_session_changed(self, msg: SessionChanged) -> None:
+        self.session = msg.session
 
-    def _open(self) -> Notebook:
-        return Notebook.open(self.path)
+    # -- the notebook, off the UI thread ----------------------------------------------------------------------
 
-    def reload(self, select: int | None = None) -> None:
-        try:
-            with self._open() as nb:
-                self.entries = nb.entries()
-                where = nb.path
-        except WordkinError as exc:
-            self.query_one("#nbk-head", Static).update(Text(visible(exc.message), style="bold red"))
-            return
+    def submit(self, op: Operation, failed_title: str) -> None:
+        """Queue ``op``; the worker runs operations one at a time, in order."""
+        self.pending += 1
+        self._jobs.put(_Job(op, failed_title))
+        self.set_timer(BUSY_AFTER, self._say_busy)
+
+    def _say_busy(self) -> None:
+        if self.pending:
+            self.query_one("#nbk-head", Static).update(Text("waiting for the notebook…", style="bold yellow"))
+
+    @work(thread=True, exit_on_error=False, group="notebook-io", description="notebook reads and writes")
+    def notebook_io(self) -> None:
+        worker = get_current_worker()
+        while not worker.is_cancelled:
+            try:
+                job = self._jobs.get(timeout=0.2)
+            except queue.Empty:
+                continue
+            try:
+                with Notebook.open(self.path) as nb:
+                    select, said = job.op(nb)
+                    entries = nb.entries()
+                    where = nb.path
+            except WordkinError as exc:
+                self.post_message(self.Failed(exc, job.failed_title))
+                continue
+            except OSError as exc:
+                what = exc.filename or self.path or "the notebook"
+                self.post_message(self.Failed(WordkinError(f"{what}: {exc.strerror or exc}"), job.failed_title))
+                continue
+            except Exception as exc:  # noqa: BLE001 - the loop must outlive any one operation; said, not swallowed
+                self.post_message(self.Failed(WordkinError(f"{type(exc).__name__}: {exc}"), job.failed_title))
+                continue
+            self.post_message(self.Loaded(entries, where, select, said))
+
+    def save(self, result: Result, session: Session) -> None:
+        """Save ``result`` as a new entry (the other panes' save key reaches here through the app)."""
+        entry = Entry.of(result, session.vectors)
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            entry_id = nb.add(entry)
+            return entry_id, f"saved as entry {entry_id} in the notebook (F5)"
+
+        self.submit(op, "not saved")
+
+    def on_notebook_pane_loaded(self, msg: Loaded) -> None:
+        self.pending = max(0, self.pending - 1)
+        self.entries = msg.entries
+        self.where = msg.where
         t = self.query_one("#nbk-list", DataTable)
+        keep_row = t.cursor_row
         t.clear()
-        for i, e in enumerate(self.entries, 1):
+        for e in self.entries:
             t.add_row(
-                Text(str(i)),
+                Text(str(e.id), justify="right"),
                 Text(e.kind),
                 Text(visible(e.title), no_wrap=True, overflow="ellipsis"),
                 Text(visible(e.note.splitlines()[0] if e.note else ""), no_wrap=True, overflow="ellipsis"),
                 key=str(e.id),
             )
-        head = Text.assemble(("notebook ", "dim"), (visible(str(where)), "bold"), f"  ·  {len(self.entries)} entries")
-        self.query_one("#nbk-head", Static).update(head)
+        self._head()
         if self.entries:
-            row = 0
-            if select is not None:
-                ids = [e.id for e in self.entries]
-                row = ids.index(select) if select in ids else min(len(ids) - 1, max(0, t.cursor_row))
+            ids = [e.id for e in self.entries]
+            row = ids.index(msg.select) if msg.select in ids else min(len(ids) - 1, max(0, keep_row))
             t.move_cursor(row=row)
             self._show(self.entries[row])
         else:
             self.query_one("#nbk-detail", Static).update(
                 Text("no entries yet: press Ctrl+S in a pane to save one", style="italic")
             )
+        if msg.said:
+            self.notify(visible(msg.said), markup=False)
+
+    def on_notebook_pane_failed(self, msg: Failed) -> None:
+        self.pending = max(0, self.pending - 1)
+        self._head()
+        self.notify(visible(msg.error.message), title=msg.title, severity="error", markup=False, timeout=15)
+
+    def _head(self) -> None:
+        head = Text("notebook ", style="dim")
+        head.append(visible(str(self.where or self.path or "")), style="bold")
+        n = len(self.entries)
+        head.append(f"  ·  {n} entr{'y' if n == 1 else 'ies'}")
+        if self.pending:
+            head.append("  ·  waiting for the notebook…", style="bold yellow")
+        self.query_one("#nbk-head", Static).update(head)
+
+    # -- showing ---------------------------------------------------------------------------------------------
 
     def selected(self) -> Entry | None:
         t = self.query_one("#nbk-list", DataTable)
@@ -113,36 +214,19 @@ class NotebookPane(Vertical):
         return self.entries[t.cursor_row]
 
     def _show(self, e: Entry, extra: str = "") -> None:
-        from .export import text_entry
-
-        body = text_entry(e, self.entries.index(e) + 1 if e in self.entries else 0)
+        body = text_entry(e, e.id or 0)
         self.query_one("#nbk-detail", Static).update(Text(body + ("\n" + extra if extra else "")))
         note = self.query_one("#nbk-note", Input)
         with note.prevent(Input.Changed):
             note.value = visible(e.note)
-
-    def save(self, result: Any, note: str = "") -> None:
-        """Save an engine result as a new entry (called by the other panes' save key)."""
-        vs = self.app.vectors  # type: ignore[attr-defined]
-        try:
-            with self._open() as nb:
-                entry_id = nb.add(entry_from_result(result, vs, note))
-        except WordkinError as exc:
-            self.app.notify(visible(exc.message), title="not saved", severity="error", markup=False)
-            return
-        self.post_message(self.EntrySaved(entry_id))
-
-    def on_notebook_pane_entry_saved(self, msg: EntrySaved) -> None:
-        self.reload(select=msg.entry_id)
-        self.app.notify(f"saved as entry {len(self.entries)} in the notebook (F5)", markup=False)
-
-    # -- events and actions ---------------------------------------------------------------------------
 
     @on(DataTable.RowHighlighted, "#nbk-list")
     def _highlight(self, event: DataTable.RowHighlighted) -> None:
         e = self.selected()
         if e is not None:
             self._show(e)
+
+    # -- actions ---------------------------------------------------------------------------------------------
 
     def action_edit_note(self) -> None:
         self.query_one("#nbk-note", Input).focus()
@@ -152,67 +236,84 @@ class NotebookPane(Vertical):
         e = self.selected()
         if e is None or e.id is None:
             return
-        with self._open() as nb:
-            nb.set_note(e.id, event.value)
-        self.reload(select=e.id)
+        entry_id, text = e.id, event.value
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            nb.set_note(entry_id, text)
+            return entry_id, ""
+
+        self.submit(op, "note not saved")
         self.query_one("#nbk-list", DataTable).focus()
 
     def action_delete(self) -> None:
         e = self.selected()
         if e is None or e.id is None:
             return
-        with self._open() as nb:
-            nb.delete(e.id)
-        self.undo_stack.append(e.id)
-        self.reload()
-        self.app.notify("entry deleted: u undoes", markup=False)
+        entry_id = e.id
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            nb.delete(entry_id)
+            return None, f"entry {entry_id} deleted: u undoes"
+
+        self.undo_stack.append(entry_id)
+        self.submit(op, "not deleted")
 
     def action_undo(self) -> None:
         if not self.undo_stack:
             return
         entry_id = self.undo_stack.pop()
-        with self._open() as nb:
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
             nb.undelete(entry_id)
-        self.reload(select=entry_id)
+            return entry_id, f"entry {entry_id} restored"
+
+        self.submit(op, "not restored")
 
     def action_move(self, offset: int) -> None:
         e = self.selected()
         if e is None or e.id is None:
             return
-        with self._open() as nb:
-            nb.move(e.id, offset)
-        self.reload(select=e.id)
+        entry_id = e.id
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            nb.move(entry_id, offset)
+            return entry_id, ""
+
+        self.submit(op, "not moved")
 
     def action_rerun(self) -> None:
         e = self.selected()
-        if e is None or self.app.vectors is None:  # type: ignore[attr-defined]
+        if e is None or self.session is None:
             return
-        self.rerun_entry(e)
+        self.rerun_entry(e, self.session)
 
-    @work(thread=True, exclusive=True, exit_on_error=False, group="notebook", description="re-run entry")
-    def rerun_entry(self, e: Entry) -> None:
+    @work(thread=True, exclusive=True, exit_on_error=False, group="rerun", description="re-run entry")
+    def rerun_entry(self, e: Entry, session: Session) -> None:
         try:
-            new = rerun(e, self.app.vectors, self.app.ann)  # type: ignore[attr-defined]
-            text = diff_text(diff(e, new), e.vector_set, new.vector_set)
+            new, d = rerun(e, session)
+            text = diff_text(d, e.vector_set, new.vector_set)
         except WordkinError as exc:
             text = "re-run failed: " + exc.message
-        self.app.call_from_thread(self._show, e, text)
+        self.post_message(self.Rerun(e, text))
+
+    def on_notebook_pane_rerun(self, msg: Rerun) -> None:
+        if self.selected() is msg.entry:
+            self._show(msg.entry, msg.text)
 
     def action_export(self) -> None:
         fmt = str(self.query_one("#nbk-format", Select).value)
         out = self.query_one("#nbk-out", Input).value.strip()
         if not out:
             self.query_one("#nbk-out", Input).focus()
-            self.app.notify("type the file to write, then press Enter", markup=False)
+            self.notify("type the file to write, then press Enter", markup=False)
             return
-        try:
-            with self._open() as nb:
-                text = render(nb, fmt, now())
-            p = write_file(Path(out).expanduser(), text)
-        except WordkinError as exc:
-            self.app.notify(visible(exc.message), title="not exported", severity="error", markup=False)
-            return
-        self.app.notify(f"exported {len(self.entries)} entries to {visible(str(p))}", markup=False)
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            entries = nb.entries()
+            p = write_file(Path(out).expanduser(), render(nb, fmt, now()))
+            return None, f"exported {len(entries)} entries to {p}"
+
+        self.submit(op, "not exported")
 
     @on(Input.Submitted, "#nbk-out")
     def _export_submitted(self, event: Input.Submitted) -> None:

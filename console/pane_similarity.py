@@ -3,19 +3,18 @@
 from __future__ import annotations
 
 import re
+from typing import ClassVar
 
 from rich.text import Text
-from textual import on, work
+from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
-from textual.containers import Vertical
-from textual.message import Message
 from textual.widgets import DataTable, Input, Static
 
-from index.errors import WordkinError
-from index.results import SimilarityResult
-from index.similarity import similarity
+from wordkin.index.errors import UsageError, WordkinError
+from wordkin.index.queries import Query, Result, Similarity, SimilarityResult
 
+from .pane_base import QueryPane
 from .safe_text import visible_word
 from .widgets import error_text, word_text
 
@@ -37,27 +36,15 @@ def split_words(text: str) -> list[str]:
     return [p.strip() for p in parts if p.strip()]
 
 
-class SimilarityPane(Vertical):
+class SimilarityPane(QueryPane):
     """Pairwise cosines of a word list; move over a cell to see how the two words rank for each other."""
+
+    kind: ClassVar[type[Query]] = Similarity
 
     BINDINGS = [
         Binding("ctrl+s", "save", "Save to notebook", id="similarity.save"),
         Binding("escape", "focus_input", "Edit the list", show=False, id="similarity.focus"),
     ]
-
-    class SimilarityDone(Message):
-        def __init__(self, result: SimilarityResult) -> None:
-            super().__init__()
-            self.result = result
-
-    class SimilarityFailed(Message):
-        def __init__(self, error: WordkinError) -> None:
-            super().__init__()
-            self.error = error
-
-    def __init__(self, **kw) -> None:  # type: ignore[no-untyped-def]
-        super().__init__(**kw)
-        self.result: SimilarityResult | None = None
 
     def compose(self) -> ComposeResult:
         yield Input(placeholder="words to compare, e.g.  hotel inn hostel ferry", id="sm-words")
@@ -65,41 +52,29 @@ class SimilarityPane(Vertical):
         yield DataTable(id="sm-table", cursor_type="cell")
         yield Static("", id="sm-pair", classes="message")
 
+    def current_query(self) -> Similarity:
+        words = tuple(self.word(w) for w in split_words(self.query_one("#sm-words", Input).value))
+        if not words:
+            raise UsageError("type two or more words")
+        return Similarity(words)
+
+    def load_query(self, query: Query) -> None:
+        assert isinstance(query, Similarity)
+        self.query_one("#sm-words", Input).value = " ".join(
+            f'"{visible_word(w)}"' if (" " in w or "," in w) else visible_word(w) for w in query.words
+        )
+        self.ask(query)
+
     def action_focus_input(self) -> None:
         self.query_one("#sm-words", Input).focus()
 
-    def action_save(self) -> None:
-        if self.result is not None:
-            self.app.save_to_notebook(self.result)  # type: ignore[attr-defined]
-
     @on(Input.Submitted, "#sm-words")
     def _submitted(self, event: Input.Submitted) -> None:
-        words = [self.app.word_from_display(w) for w in split_words(event.value)]  # type: ignore[attr-defined]
-        if not words:
-            return
-        if self.app.vectors is None:  # type: ignore[attr-defined]
-            self._message(Text("the vectors are still loading…", style="italic"))
-            return
-        self.compare(words)
+        self.submit()
 
-    @work(
-        thread=True,
-        exclusive=True,
-        exit_on_error=False,
-        group="similarity",
-        description="pairwise similarity",
-    )
-    def compare(self, words: list[str]) -> None:
-        try:
-            res = similarity(self.app.vectors, words)  # type: ignore[attr-defined]
-        except WordkinError as exc:
-            self.post_message(self.SimilarityFailed(exc))
-            return
-        self.post_message(self.SimilarityDone(res))
-
-    def on_similarity_pane_similarity_done(self, msg: SimilarityDone) -> None:
-        res = msg.result
-        self.result = res
+    def show_result(self, result: Result) -> None:
+        assert isinstance(result, SimilarityResult)
+        res = result
         table = self.query_one("#sm-table", DataTable)
         table.clear(columns=True)
         table.add_column(Text(""), key="word")
@@ -120,13 +95,13 @@ class SimilarityPane(Vertical):
             t.append("  ·  odd one out: ◆ ")
             t.append_text(word_text(res.odd_one_out, "bold magenta"))
             t.append(f" (cosine {res.odd_scores[i]:.3f} to the mean of the others)")
-        self._message(t)
+        self.show_message(t)
         table.focus()
 
     @on(DataTable.CellHighlighted, "#sm-table")
     def _pair(self, event: DataTable.CellHighlighted) -> None:
         res = self.result
-        if res is None:
+        if not isinstance(res, SimilarityResult):
             return
         i, j = event.coordinate.row, event.coordinate.column - 1
         pair = self.query_one("#sm-pair", Static)
@@ -141,8 +116,10 @@ class SimilarityPane(Vertical):
         t.append(f", and the reverse rank is {res.pair_ranks[j][i]}")
         pair.update(t)
 
-    def on_similarity_pane_similarity_failed(self, msg: SimilarityFailed) -> None:
-        self._message(error_text(msg.error))
+    def show_failure(self, error: WordkinError) -> None:
+        self.query_one("#sm-table", DataTable).clear(columns=True)
+        self.query_one("#sm-pair", Static).update("")
+        self.show_message(error_text(error))
 
-    def _message(self, text: Text) -> None:
+    def show_message(self, text: Text) -> None:
         self.query_one("#sm-message", Static).update(text)

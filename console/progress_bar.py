@@ -6,7 +6,7 @@ import sys
 from collections.abc import Iterator
 from contextlib import contextmanager
 
-from index.progress import ProgressFn
+from wordkin.index.progress import ProgressFn
 
 
 @contextmanager

@@ -1,4 +1,5 @@
-"""Plain-text tables for the headless commands. Every word passes through ``visible`` first."""
+"""Plain-text rendering of results for the headless commands and the text export: every result describes itself as
+tables and notes (``wordkin.index.query_base``); this module lays them out. Every word passes through ``visible``."""
 
 from __future__ import annotations
 
@@ -6,7 +7,7 @@ from collections.abc import Sequence
 
 from rich.cells import cell_len
 
-from index.results import Neighbour
+from wordkin.index.query_base import Cell, Result, Table
 
 from .safe_text import visible, visible_word
 
@@ -15,52 +16,56 @@ def pad(text: str, width: int) -> str:
     return text + " " * max(0, width - cell_len(text))
 
 
-def neighbour_table(rows: Sequence[Neighbour], title: str = "", score_label: str = "cosine") -> str:
-    words = [visible_word(r.word) for r in rows]
-    w = max([4] + [cell_len(x) for x in words])
-    out = [visible(title)] if title else []
-    out.append(f"{'rank':>4}  {pad('word', w)}  {score_label}")
-    for r, word in zip(rows, words, strict=True):
-        out.append(f"{r.rank:>4}  {pad(word, w)}  {r.similarity:6.3f}")
-    if not rows:
-        out.append("   (no neighbours: the word's vector is all zeros)")
-    return "\n".join(out) + "\n"
+def cell_text(v: Cell) -> str:
+    if v is None:
+        return "-"
+    if isinstance(v, bool):
+        return "yes" if v else "no"
+    if isinstance(v, float):
+        return f"{v:.3f}"
+    if isinstance(v, int):
+        return str(v)
+    return visible_word(v)
 
 
-def calc_text(res) -> str:  # type: ignore[no-untyped-def]
-    what = "cosine" if res.method == "add" else "3CosMul score"
-    out = neighbour_table(res.results, title=f"{res.expression}   [{res.method}, {res.mode}]", score_label=what)
-    if res.excluded:
-        out += "excluded: " + ", ".join(visible(w) for w in res.excluded) + "\n"
-    if res.target is not None:
-        if res.target_rank is None:
-            out += f"{visible(res.target)}: not ranked (it is one of the excluded words)\n"
-        else:
-            out += f"{visible(res.target)}: rank {res.target_rank}, score {res.target_similarity:.3f}\n"
+def table_lines(t: Table, *, max_width: int = 14) -> list[str]:
+    """Fixed-width lines: text columns padded on the right, numbers on the left; no trailing spaces."""
+    cells = [[cell_text(v) for v in row] for row in t.rows]
+    numeric = t.numeric or tuple(False for _ in t.columns)
+    widths = []
+    for j, name in enumerate(t.columns):
+        w = max([cell_len(visible(name))] + [cell_len(r[j]) for r in cells])
+        widths.append(w if not numeric[j] or j == 0 else min(w, max(max_width, 6)))
+
+    def line(values: Sequence[str]) -> str:
+        parts = []
+        for j, v in enumerate(values):
+            parts.append(" " * max(0, widths[j] - cell_len(v)) + v if numeric[j] else pad(v, widths[j]))
+        return "  ".join(parts).rstrip()
+
+    out = [line([visible(c) for c in t.columns])]
+    out.extend(line(r) for r in cells)
     return out
 
 
-def similarity_text(res) -> str:  # type: ignore[no-untyped-def]
-    words = [visible_word(w) for w in res.words]
-    w = max(cell_len(x) for x in words)
-    cw = max(6, min(12, w))
-    head = " " * (w + 2) + " ".join(pad(x[:cw], cw) for x in words)
-    lines = [head]
-    for name, row in zip(words, res.matrix, strict=True):
-        lines.append(pad(name, w) + "  " + " ".join(f"{v:>{cw}.3f}" for v in row))
-    if res.odd_one_out is not None:
-        i = res.words.index(res.odd_one_out)
-        lines.append(
-            f"odd one out: {visible(res.odd_one_out)} (cosine {res.odd_scores[i]:.3f} to the mean of the others; "
-            + ", ".join(f"{x} {s:.3f}" for x, s in zip(words, res.odd_scores, strict=True))
-            + ")"
-        )
-    if res.pair_ranks:
-        lines.append("neighbour ranks (row word's rank of column word):")
-        lines.append(" " * (w + 2) + " ".join(pad(x[:cw], cw) for x in words))
-        for name, row in zip(words, res.pair_ranks, strict=True):
-            lines.append(pad(name, w) + "  " + " ".join(f"{'-' if v is None else v:>{cw}}" for v in row))
-    return "\n".join(lines) + "\n"
+def answered_by(res: Result) -> str:
+    return {"ann": "index candidates, exact cosines", "exact": "exact search"}.get(res.mode, res.mode)
+
+
+def heading(res: Result) -> str:
+    opts = ", ".join(res.query.options())
+    return visible(f"{res.query.title()}   [{opts + '; ' if opts else ''}{answered_by(res)}]")
+
+
+def result_text(res: Result) -> str:
+    """A result as the commands print it: a heading, its tables, its notes."""
+    out = [heading(res)]
+    for caption, t in res.tables():
+        if caption:
+            out.append(visible(caption))
+        out.extend(table_lines(t))
+    out.extend(visible(n) for n in res.notes())
+    return "\n".join(out) + "\n"
 
 
 def score_text(res) -> str:  # type: ignore[no-untyped-def]

@@ -1,4 +1,4 @@
-"""Regenerate the README's screenshots: ``python -m console.screenshots [OUT_DIR]``.
+"""Regenerate the README's screenshots: ``python -m wordkin.console.screenshots [OUT_DIR]``.
 
 Drives the console on the demo set with Pilot at 80x24 and saves each pane with the app's own SVG export.
 """
@@ -14,7 +14,7 @@ OUT = Path(__file__).resolve().parent / "screenshots"
 
 
 async def shoot(out: Path) -> list[Path]:
-    from demo_vectors import demo_path
+    from wordkin.demo_vectors import demo_path
 
     from .app import create_app
 
@@ -23,7 +23,7 @@ async def shoot(out: Path) -> list[Path]:
     app = create_app(str(demo_path()), notebook=str(nb))
     saved = []
     async with app.run_test(size=(80, 24)) as pilot:
-        while app.ann is None and app.index_state.value not in ("failed",):
+        while app.session is None or app.session.state.value in ("building", "empty"):
             await pilot.pause(0.1)
 
         async def save(name: str) -> None:

@@ -11,10 +11,10 @@ from collections.abc import Sequence
 
 from rich.text import Text
 from textual.suggester import Suggester
-from textual.widgets import DataTable
+from textual.widgets import DataTable, Input
 
-from index.errors import UnknownWordError, WordkinError
-from index.results import Neighbour
+from wordkin.index.errors import UnknownWordError, UsageError, WordkinError
+from wordkin.index.results import Neighbour
 
 from .safe_text import visible, visible_word
 
@@ -76,12 +76,29 @@ def error_text(err: WordkinError) -> Text:
     return Text(visible(err.message), style="bold red")
 
 
+def int_option(box: Input, name: str, default: int | None) -> int | None:
+    """The whole number typed in an option box (``default`` when empty); ``UsageError`` naming the option."""
+    text = box.value.strip()
+    if not text:
+        return default
+    try:
+        return int(text)
+    except ValueError:
+        raise UsageError(f"{name} must be a whole number, not {text!r}") from None
+
+
+def int_value(box: Input, name: str, default: int) -> int:
+    """Like ``int_option`` for an option that always has a value."""
+    v = int_option(box, name, default)
+    return default if v is None else v
+
+
 def completion_list(words: Sequence[str]) -> list[str]:
     """The sorted, displayable vocabulary for ``VocabSuggester``: slow for big sets, so built in the load worker."""
     return sorted(visible(w) for w in words if w)
 
 
-class NeighbourTable(DataTable):
+class NeighbourTable(DataTable[Text]):
     """Rank, word, score and a bar; an optional mark column (mutual neighbours)."""
 
     def on_mount(self) -> None:

@@ -16,7 +16,7 @@ The corpus is built so that each word's contexts combine two parts: what it is (
 shared by both members of a pair, plus its topic's words) and which side of the relation it is on (role markers
 shared by every pair of the family). That is the structure vector offsets recover.
 
-Usage: python -m demo_vectors.generate [--out DIR] [--corpus FILE]
+Usage: python -m wordkin.demo_vectors.generate [--out DIR] [--corpus FILE]
 """
 
 from __future__ import annotations
@@ -234,9 +234,7 @@ ROLE_MARKERS = {
     "region": "region province county district inland across".split(),
 }
 
-SYL_A = (
-    "bra kel mar sal pen tor wen dun cor hal lin ros fen gar mor tre bel car dor fal han pol ker lan".split()
-)
+SYL_A = "bra kel mar sal pen tor wen dun cor hal lin ros fen gar mor tre bel car dor fal han pol ker lan".split()
 SYL_B = "ck th rr wy ll nn st rn sh ch nd lt rd mb".split()
 SYL_C = "water mere ford by stow haven wick combe mouth port ness holm stead ton ley sey well".split()
 
@@ -386,9 +384,7 @@ def main() -> None:
     tmp.unlink()
     # mtime=0 and no file name in the gzip header keep the .gz byte-identical across runs and folders.
     (args.out / "brackwater.vec.gz").write_bytes(gzip.compress(data, compresslevel=9, mtime=0))
-    (args.out / "brackwater-analogies.txt").write_text(
-        "\n".join(analogies(random.Random(SEED + 1), world)) + "\n"
-    )
+    (args.out / "brackwater-analogies.txt").write_text("\n".join(analogies(random.Random(SEED + 1), world)) + "\n")
     print(f"{len(model.wv)} words, {sum(len(s) for s in sents)} tokens")
 
 

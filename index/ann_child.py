@@ -1,4 +1,4 @@
-"""The annoy builder run as a child process: ``python -m index.ann_child MATRIX OUT DIMS TREES SEED``.
+"""The annoy builder run as a child process: ``python -m wordkin.index.ann_child MATRIX OUT DIMS TREES SEED``.
 
 It reports ``p STAGE DONE TOTAL`` lines and finally ``done`` on stdout. A child can be killed at once, so a cancel or
 a quit never waits for annoy's ``build()``, which cannot be interrupted.
@@ -12,7 +12,7 @@ import sys
 def main() -> None:
     import os
 
-    from .ann import _add_and_build
+    from .index_build import _add_and_build
 
     # Below the console in the scheduler: with one child per shard on a 2-core machine, an equal-priority build
     # would take the UI's time slices (a 150 ms frame stall was measured before this).

@@ -12,11 +12,14 @@ files' sizes; a cache that fails is rebuilt, never trusted.
 from __future__ import annotations
 
 import contextlib
+import dataclasses
 import hashlib
 import json
 import os
 import shutil
 import tempfile
+from collections.abc import Iterator
+from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
@@ -28,6 +31,97 @@ from . import __version__
 CACHE_FORMAT = 1
 HEAD_TAIL = 1 << 20
 NPY_HEADER_LEN = 128
+
+
+@dataclass(frozen=True)
+class IndexMeta:
+    """What ``meta.json`` says of the annoy index: ``state`` is "empty" or "ready" (a loaded index is checked
+    against these figures before it is trusted)."""
+
+    state: str = "empty"
+    trees: int = 0
+    search_k: int = 0
+    recall_at_10: float = 0.0
+    recall_sample: int = 0
+    query_ms_p50: float = 0.0
+    calc_search_k: int | None = None
+    calc_top1_agreement: float = 0.0
+    build_seconds: float = 0.0
+    shards: int = 1
+    file_bytes: tuple[int, ...] = ()
+    seed: int = 1
+
+
+@dataclass(frozen=True)
+class CacheMeta:
+    """The typed content of ``meta.json``; this module is its only reader and writer."""
+
+    source: str
+    source_size: int
+    source_mtime_ns: int
+    fingerprint: str
+    format: str
+    words: int
+    dims: int
+    words_bytes: int = 0
+    words_escaped: bool = False
+    warnings: tuple[str, ...] = ()
+    parse_seconds: float = 0.0
+    index: IndexMeta = field(default_factory=IndexMeta)
+    cache_format: int = CACHE_FORMAT
+    tool_version: str = __version__
+
+    def with_index(self, index: IndexMeta) -> CacheMeta:
+        return dataclasses.replace(self, index=index)
+
+    def to_json(self) -> dict[str, Any]:
+        d = dataclasses.asdict(self)
+        d["warnings"] = list(self.warnings)
+        d["index"]["file_bytes"] = list(self.index.file_bytes)
+        return d
+
+    @classmethod
+    def from_json(cls, d: Any) -> CacheMeta:
+        """Raises ``ValueError`` (or ``TypeError``/``KeyError``) when ``d`` is not a meta.json of this layout."""
+        if not isinstance(d, dict) or not isinstance(d.get("index"), dict):
+            raise ValueError("meta.json is not an object with an index section")
+        idx = d["index"]
+        known = {f.name for f in dataclasses.fields(IndexMeta)}
+        fb = idx.get("file_bytes", ())
+        index = IndexMeta(
+            **{k: v for k, v in idx.items() if k in known and k != "file_bytes"},
+            file_bytes=tuple(int(x) for x in (fb if isinstance(fb, list) else [fb])),
+        )
+        known = {f.name for f in dataclasses.fields(cls)} - {"index", "warnings"}
+        missing = {"source", "fingerprint", "format", "words", "dims"} - set(d)
+        if missing:
+            raise KeyError(", ".join(sorted(missing)))
+        meta = cls(
+            **{k: v for k, v in d.items() if k in known},
+            warnings=tuple(str(w) for w in d.get("warnings", [])),
+            index=index,
+        )
+        for name, typ in (("words", int), ("dims", int), ("source_size", int), ("source_mtime_ns", int)):
+            if not isinstance(getattr(meta, name), typ):
+                raise TypeError(f"{name} is not a whole number")
+        return meta
+
+
+def memory_meta(words: int, dims: int) -> CacheMeta:
+    """The metadata of a set held in memory (no file, no cache)."""
+    return CacheMeta(
+        source="<memory>",
+        source_size=0,
+        source_mtime_ns=0,
+        fingerprint="memory",
+        format="memory",
+        words=words,
+        dims=dims,
+    )
+
+
+def write_meta(dir_: Path, meta: CacheMeta) -> None:
+    write_json_atomic(dir_ / "meta.json", meta.to_json())
 
 
 def default_root() -> Path:
@@ -142,35 +236,35 @@ def discard(tmp: Path) -> None:
     shutil.rmtree(tmp, ignore_errors=True)
 
 
-def read_meta(dir_: Path) -> dict[str, Any] | None:
+def read_meta(dir_: Path) -> CacheMeta | None:
+    """The cache's metadata, or None when it is missing or not of this layout."""
     try:
         with open(dir_ / "meta.json", encoding="utf-8") as f:
-            meta = json.load(f)
-    except (OSError, ValueError):
+            return CacheMeta.from_json(json.load(f))
+    except (OSError, ValueError, TypeError, KeyError):
         return None
-    return meta if isinstance(meta, dict) else None
 
 
 def validate(
-    dir_: Path, meta: dict[str, Any] | None, source: Path, fingerprint: str, size: int, mtime_ns: int
+    dir_: Path, meta: CacheMeta | None, source: Path, fingerprint: str, size: int, mtime_ns: int
 ) -> str | None:
     """Return ``None`` if the cache in ``dir_`` may be trusted for ``source``, else the reason it may not."""
     if meta is None:
         return "meta.json is missing or unreadable"
     try:
-        if meta.get("cache_format") != CACHE_FORMAT:
-            return f"cache format {meta.get('cache_format')} is not {CACHE_FORMAT}"
-        if meta.get("tool_version") != __version__:
-            return f"written by wordkin {meta.get('tool_version')}, this is {__version__}"
-        if meta.get("fingerprint") != fingerprint or meta.get("source_size") != size:
+        if meta.cache_format != CACHE_FORMAT:
+            return f"cache format {meta.cache_format} is not {CACHE_FORMAT}"
+        if meta.tool_version != __version__:
+            return f"written by wordkin {meta.tool_version}, this is {__version__}"
+        if meta.fingerprint != fingerprint or meta.source_size != size:
             return "the source file's content changed"
-        if meta.get("source_mtime_ns") != mtime_ns:
+        if meta.source_mtime_ns != mtime_ns:
             return "the source file was modified"
-        n, d = int(meta["words"]), int(meta["dims"])
+        n, d = int(meta.words), int(meta.dims)
         expect = {
             "matrix.npy": NPY_HEADER_LEN + 4 * n * d,
             "norms.npy": None,
-            "words.txt": int(meta["words_bytes"]),
+            "words.txt": int(meta.words_bytes),
             "zero_rows.npy": None,
         }
         for name, want in expect.items():
@@ -189,7 +283,7 @@ def validate(
 
 
 @contextlib.contextmanager
-def build_dir(root: Path, key: str):  # type: ignore[no-untyped-def]
+def build_dir(root: Path, key: str) -> Iterator[Path]:
     tmp = new_build_dir(root, key)
     try:
         yield tmp

@@ -7,8 +7,8 @@ from collections.abc import Iterator
 import numpy as np
 
 from .errors import UnreadableFileError
-from .formats import Batch, Detected
 from .progress import ProgressFn
+from .reader_types import Batch, Detected
 
 
 def read_npy(det: Detected, progress: ProgressFn | None, batch_rows: int) -> Iterator[Batch]:

@@ -18,8 +18,8 @@ from collections.abc import Iterator
 import numpy as np
 
 from .errors import UnreadableFileError
-from .formats import Batch, Detected, decode_words, open_stream, read_stream_errors
 from .progress import ProgressFn
+from .reader_types import Batch, Detected, decode_words, open_stream, read_stream_errors
 
 STREAM_ERRORS = (EOFError, zlib.error, lzma.LZMAError, OSError)
 SLOW_BATCH = 8192

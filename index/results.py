@@ -1,8 +1,9 @@
-"""Plain, immutable result objects. The CLI, the console, the notebook and the exports all render these."""
+"""The row of every ranked answer, and its JSON form. Each kind of query keeps its own result class in its
+``kind_*`` module; they share these rows."""
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 
@@ -10,77 +11,24 @@ from typing import Any
 class Neighbour:
     rank: int
     word: str
-    similarity: float  # exact cosine, always
+    similarity: float  # an exact cosine (or, for 3CosMul, its score), never an index's estimate
 
 
-@dataclass(frozen=True)
-class NeighbourResult:
-    """Nearest neighbours of ``query``. ``mode`` is "ann" (annoy candidates, exact re-rank) or "exact"."""
-
-    query: str
-    k: int
-    mode: str
-    results: tuple[Neighbour, ...]
-    top: int | None = None
-    elapsed_ms: float = 0.0
-
-    def to_json(self) -> dict[str, Any]:
-        return {
-            "query": self.query,
-            "k": self.k,
-            "mode": self.mode,
-            "results": [{"rank": r.rank, "word": r.word, "similarity": r.similarity} for r in self.results],
-        }
+def rows_to_json(rows: tuple[Neighbour, ...]) -> list[dict[str, Any]]:
+    return [{"rank": r.rank, "word": r.word, "similarity": r.similarity} for r in rows]
 
 
-@dataclass(frozen=True)
-class CalcResult:
-    """The words nearest an expression's vector. ``target`` is set for ``a : b :: c : d`` (where d ranks)."""
-
-    expression: str
-    method: str
-    excluded: tuple[str, ...]
-    results: tuple[Neighbour, ...]
-    k: int
-    mode: str = "exact"
-    top: int | None = None
-    target: str | None = None
-    target_rank: int | None = None  # 1-based rank of ``target`` among all candidates, None if excluded
-    target_similarity: float | None = None
-    elapsed_ms: float = 0.0
-
-    def to_json(self) -> dict[str, Any]:
-        out: dict[str, Any] = {
-            "expression": self.expression,
-            "method": self.method,
-            "excluded": list(self.excluded),
-            "results": [{"rank": r.rank, "word": r.word, "similarity": r.similarity} for r in self.results],
-        }
-        if self.target is not None:
-            out["target"] = {
-                "word": self.target,
-                "rank": self.target_rank,
-                "similarity": self.target_similarity,
-            }
-        return out
+def rows_from_json(rows: Any) -> tuple[Neighbour, ...]:
+    """Rows stored by ``rows_to_json``; ``ValueError`` when they are not."""
+    if not isinstance(rows, list):
+        raise ValueError("results must be a list")
+    out = []
+    for r in rows:
+        if not isinstance(r, dict):
+            raise ValueError("a result row must be an object")
+        out.append(Neighbour(int(r["rank"]), str(r["word"]), float(r["similarity"])))
+    return tuple(out)
 
 
-@dataclass(frozen=True)
-class SimilarityResult:
-    """Pairwise cosines of ``words``; ``pair_ranks[i][j]`` is the rank of word j among word i's neighbours."""
-
-    words: tuple[str, ...]
-    matrix: tuple[tuple[float, ...], ...]
-    odd_one_out: str | None
-    odd_scores: tuple[float, ...]  # each word's cosine to the mean of the others
-    pair_ranks: tuple[tuple[int | None, ...], ...] = field(default=())
-    elapsed_ms: float = 0.0
-
-    def to_json(self) -> dict[str, Any]:
-        return {
-            "words": list(self.words),
-            "matrix": [list(r) for r in self.matrix],
-            "odd_one_out": self.odd_one_out,
-            "odd_scores": list(self.odd_scores),
-            "pair_ranks": [list(r) for r in self.pair_ranks],
-        }
+def ranked(rows: tuple[Neighbour, ...]) -> list[tuple[str, int]]:
+    return [(r.word, r.rank) for r in rows]

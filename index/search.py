@@ -3,7 +3,6 @@ re-scored exactly. The query word and all-zero rows are never returned."""
 
 from __future__ import annotations
 
-import time
 from collections.abc import Sequence
 
 import numpy as np
@@ -11,25 +10,26 @@ from numpy.typing import NDArray
 
 from .ann import EXACT_BELOW_WORDS, AnnIndex
 from .errors import UsageError
-from .results import Neighbour, NeighbourResult
 from .store import VectorSet
 
 MAX_K = 10_000
 
 
 def check_k(k: int, vs: VectorSet) -> int:
-    if not isinstance(k, int) or k < 1:
-        raise UsageError(f"-k must be a positive whole number, not {k!r}")
+    """``k`` clamped to the vocabulary; a usage error (worded for any front end) when it cannot be used."""
+    if not isinstance(k, int) or isinstance(k, bool) or k < 1:
+        raise UsageError(f"k must be a positive whole number, not {k!r}")
     if k > MAX_K:
-        raise UsageError(f"-k is at most {MAX_K}, not {k}")
+        raise UsageError(f"k is at most {MAX_K:,}, not {k:,}")
     return min(k, vs.n)
 
 
 def check_top(top: int | None, vs: VectorSet) -> int | None:
+    """``top`` (only the N most frequent words may answer), None when it covers the whole vocabulary."""
     if top is None:
         return None
-    if top < 1:
-        raise UsageError(f"--top must be a positive whole number, not {top}")
+    if not isinstance(top, int) or isinstance(top, bool) or top < 1:
+        raise UsageError(f"top must be a positive whole number, not {top!r}")
     return None if top >= vs.n else top
 
 
@@ -120,30 +120,6 @@ def top_for_vector(
             return rows, scores, "ann"
     rows, scores = exact_top(vs, q, k, exclude, top)
     return rows, scores, "exact"
-
-
-def neighbours(
-    vs: VectorSet,
-    word: str,
-    k: int = 10,
-    *,
-    ann: AnnIndex | None = None,
-    mode: str = "auto",
-    top: int | None = None,
-) -> NeighbourResult:
-    """The ``k`` words nearest ``word`` by cosine (the word itself excluded)."""
-    t0 = time.perf_counter()
-    k = check_k(k, vs)
-    top = check_top(top, vs)
-    r = vs.row(word)
-    q = np.asarray(vs.unit[r], dtype=np.float32)
-    if vs.is_zero(r):
-        return NeighbourResult(word, k, "exact", (), top, (time.perf_counter() - t0) * 1000)
-    rows, scores, used = top_for_vector(vs, q, k, [r], ann=ann, mode=mode, top=top)
-    res = tuple(
-        Neighbour(i + 1, vs.words[int(row)], float(s)) for i, (row, s) in enumerate(zip(rows, scores, strict=True))
-    )
-    return NeighbourResult(word, k, used, res, top, (time.perf_counter() - t0) * 1000)
 
 
 def mutual(vs: VectorSet, query_row: int, rows: Sequence[int], k: int) -> list[bool]:

@@ -12,15 +12,15 @@ import tempfile
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
 
-from . import __version__, cache
+from . import cache
 from .errors import UnknownWordError, UnreadableFileError, WordkinError
-from .formats import Detected, detect, read_batches
+from .formats import detect, read_batches
 from .progress import CancelFn, ProgressFn, check
+from .reader_types import Detected
 
 
 @dataclass
@@ -35,7 +35,7 @@ class VectorSet:
     zero_rows: NDArray[np.int64]
     fingerprint: str
     cache_dir: Path | None
-    meta: dict[str, Any]
+    meta: cache.CacheMeta
     warnings: list[str] = field(default_factory=list)
     cache_note: str = ""  # "hit", "built", "rebuilt: <reason>", "off"
     _lookup: dict[str, int] | None = None
@@ -124,8 +124,7 @@ def open_vectors(
     if final.is_dir():
         found = cache.read_meta(final)
         reason = cache.validate(final, found, src, fp, size, mtime)
-        if reason is None:
-            assert found is not None
+        if reason is None and found is not None:
             try:
                 vs = _map(src, final, found, fp, final)
                 vs.cache_note = "hit"
@@ -157,7 +156,7 @@ def _build(
     mtime: int,
     progress: ProgressFn | None,
     cancel: CancelFn | None,
-) -> dict[str, Any]:
+) -> cache.CacheMeta:
     t0 = time.perf_counter()
     words: list[str] = []
     norm_parts: list[np.ndarray] = []
@@ -202,23 +201,20 @@ def _build(
     np.save(dir_ / "zero_rows.npy", zero)
     data, escaped = cache.encode_words(words)
     (dir_ / "words.txt").write_bytes(data)
-    meta: dict[str, Any] = {
-        "cache_format": cache.CACHE_FORMAT,
-        "tool_version": __version__,
-        "source": str(det.path.resolve()),
-        "source_size": size,
-        "source_mtime_ns": mtime,
-        "fingerprint": fp,
-        "format": det.format_name,
-        "words": len(words),
-        "dims": det.dims,
-        "words_bytes": len(data),
-        "words_escaped": escaped,
-        "warnings": warnings,
-        "parse_seconds": round(time.perf_counter() - t0, 3),
-        "index": {"state": "empty"},
-    }
-    cache.write_json_atomic(dir_ / "meta.json", meta)
+    meta = cache.CacheMeta(
+        source=str(det.path.resolve()),
+        source_size=size,
+        source_mtime_ns=mtime,
+        fingerprint=fp,
+        format=det.format_name,
+        words=len(words),
+        dims=det.dims,
+        words_bytes=len(data),
+        words_escaped=escaped,
+        warnings=tuple(warnings),
+        parse_seconds=round(time.perf_counter() - t0, 3),
+    )
+    cache.write_meta(dir_, meta)
     return meta
 
 
@@ -234,16 +230,16 @@ def _compact(path: Path, keep: np.ndarray, dims: int, progress: ProgressFn | Non
     os.replace(tmp, path)
 
 
-def _map(source: Path, dir_: Path, meta: dict[str, Any], fp: str, cache_dir: Path | None) -> VectorSet:
+def _map(source: Path, dir_: Path, meta: cache.CacheMeta, fp: str, cache_dir: Path | None) -> VectorSet:
     unit = np.load(dir_ / "matrix.npy", mmap_mode="r")
     norms = np.load(dir_ / "norms.npy", allow_pickle=False)
     zero = np.load(dir_ / "zero_rows.npy", allow_pickle=False)
-    words = cache.decode_words((dir_ / "words.txt").read_bytes(), bool(meta.get("words_escaped")), int(meta["words"]))
+    words = cache.decode_words((dir_ / "words.txt").read_bytes(), meta.words_escaped, meta.words)
     if len(words) != unit.shape[0] or len(norms) != unit.shape[0]:
         raise ValueError("words, norms and matrix disagree in length")
     return VectorSet(
         source=source,
-        format=str(meta["format"]),
+        format=meta.format,
         words=words,
         unit=unit,
         norms=norms,
@@ -251,7 +247,7 @@ def _map(source: Path, dir_: Path, meta: dict[str, Any], fp: str, cache_dir: Pat
         fingerprint=fp,
         cache_dir=cache_dir,
         meta=meta,
-        warnings=list(meta.get("warnings", [])),
+        warnings=list(meta.warnings),
     )
 
 
@@ -273,5 +269,5 @@ def from_arrays(words: list[str], vectors: np.ndarray, *, source: str = "<memory
         zero_rows=np.flatnonzero(norms == 0).astype(np.int64),
         fingerprint="memory",
         cache_dir=None,
-        meta={"words": len(words), "dims": vec.shape[1], "index": {"state": "empty"}},
+        meta=cache.memory_meta(len(words), int(vec.shape[1])),
     )

@@ -56,15 +56,13 @@ def lee_model(tmp_path_factory: pytest.TempPathFactory):
     return model.wv, paths
 
 
-def run_cli(
-    *args: str, env: dict[str, str] | None = None, timeout: float = 120
-) -> subprocess.CompletedProcess[str]:
+def run_cli(*args: str, env: dict[str, str] | None = None, timeout: float = 120) -> subprocess.CompletedProcess[str]:
     """Run ``wordkin`` in a subprocess, as a user would, and capture its output."""
     e = dict(os.environ)
     if env:
         e.update(env)
     return subprocess.run(
-        [sys.executable, "-m", "console.cli", *args],
+        [sys.executable, "-m", "wordkin.console.cli", *args],
         capture_output=True,
         text=True,
         env=e,
@@ -98,3 +96,42 @@ def write_w2v_text(path: Path, words: list[str], vecs: np.ndarray, header: bool 
         for w, v in zip(words, vecs, strict=True):
             f.write(w + " " + " ".join(f"{x:.6f}" for x in v) + "\n")
     return path
+
+
+# -- query shortcuts: each builds the query value and runs it on a session of ``vs`` (and ``ann`` when given) --
+
+
+def session_of(vs, ann=None):
+    from wordkin.index.ann import IndexState
+    from wordkin.index.session import Session
+
+    return Session(vs, ann, IndexState.READY if ann is not None else IndexState.EMPTY)
+
+
+def neighbours(vs, word, k=10, *, ann=None, mode="auto", top=None, **opts):
+    from wordkin.index.queries import Neighbours
+
+    return Neighbours(word, k, top, exact=mode == "exact", **opts).run(session_of(vs, ann))
+
+
+def calc(vs, expression, k=10, *, method="add", top=None, keep_inputs=False, ann=None, epsilon=None):
+    from wordkin.index.analogy import EPSILON
+    from wordkin.index.queries import Arithmetic
+
+    q = Arithmetic(expression, k, method, top, keep_inputs)
+    return q.run(session_of(vs, ann), epsilon=EPSILON if epsilon is None else epsilon)
+
+
+def similarity(vs, words):
+    from wordkin.index.queries import Similarity
+
+    return Similarity(tuple(words)).run(session_of(vs))
+
+
+def stub_entry(word: str, note: str = ""):
+    """A notebook entry for a neighbours query with no rows (store tests that need many small entries)."""
+    from wordkin.console.notebook import Entry
+    from wordkin.index.queries import NeighbourResult, Neighbours
+
+    q = Neighbours(word, 1)
+    return Entry(q, NeighbourResult(q, word, "exact", (), 1), {"path": "x"}, note)

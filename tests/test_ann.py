@@ -4,11 +4,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from index import ann
-from index.search import exact_top, neighbours, top_for_vector
-from index.store import open_vectors
+from wordkin.index import ann
+from wordkin.index.index_build import build
+from wordkin.index.search import exact_top, top_for_vector
+from wordkin.index.store import open_vectors
 
-from .conftest import structured_set
+from .conftest import neighbours, structured_set
 
 
 def test_recall_at_10_on_50k_structured_set(tmp_path):
@@ -17,8 +18,8 @@ def test_recall_at_10_on_50k_structured_set(tmp_path):
     np.save(tmp_path / "syn.npy", x)
     (tmp_path / "syn.words.txt").write_text("\n".join(f"w{i:06d}" for i in range(n)) + "\n")
     vs = open_vectors(tmp_path / "syn.npy", cache_root=tmp_path / "c")
-    idx = ann.build(vs)
-    assert vs.meta["index"]["recall_at_10"] >= 0.99
+    idx = build(vs)
+    assert vs.meta.index.recall_at_10 >= 0.99
     assert idx.usable
     # An independent sample (other seed than the build's) of queries, checked here against exact search.
     rng = np.random.default_rng(99)
@@ -34,10 +35,11 @@ def test_recall_at_10_on_50k_structured_set(tmp_path):
     assert hits / (10 * len(sample)) >= 0.99
     # Loaded back from the cache (memory-mapped), the same answers.
     vs2 = open_vectors(tmp_path / "syn.npy", cache_root=tmp_path / "c")
-    idx2 = ann.load(vs2)
-    assert idx2 is not None and idx2.search_k == idx.search_k
+    loaded = ann.load(vs2)
+    idx2 = loaded.index
+    assert loaded.state is ann.IndexState.READY and idx2 is not None and idx2.search_k == idx.search_k
     res = neighbours(vs2, "w000042", 10, ann=idx2)
-    assert res.mode == "ann" and len(res.results) == 10
+    assert res.mode == "ann" and len(res.rows) == 10
 
 
 def test_child_process_build_and_cancel(tmp_path):
@@ -46,12 +48,12 @@ def test_child_process_build_and_cancel(tmp_path):
     (tmp_path / "s.words.txt").write_text("\n".join(f"w{i}" for i in range(n)) + "\n")
     vs = open_vectors(tmp_path / "s.npy", cache_root=tmp_path / "c")
     seen = []
-    ann.build(vs, n_trees=4, in_process=False, progress=lambda d, t, s: seen.append(s))
-    assert any("adding" in s for s in seen) and vs.meta["index"]["state"] == "ready"
+    build(vs, n_trees=4, in_process=False, progress=lambda d, t, s: seen.append(s))
+    assert any("adding" in s for s in seen) and vs.meta.index.state == "ready"
     import pytest
 
-    from index.errors import CancelledError
+    from wordkin.index.errors import CancelledError
 
     with pytest.raises(CancelledError):
-        ann.build(vs, n_trees=4, in_process=False, cancel=lambda: True)
+        build(vs, n_trees=4, in_process=False, cancel=lambda: True)
     assert not list(vs.cache_dir.glob(".annoy*tmp"))

@@ -2,14 +2,16 @@
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 
 import numpy as np
 import pytest
 
-from index import ann
-from index.store import open_vectors
+from wordkin.index import ann
+from wordkin.index.index_build import build
+from wordkin.index.store import open_vectors
 
 from .conftest import gensim_data, structured_set, write_w2v_text
 
@@ -24,7 +26,7 @@ def test_second_open_maps_the_cache(small, monkeypatch):
     path, cache = small
     a = open_vectors(path, cache_root=cache)
     assert a.cache_note == "built"
-    import index.formats as formats
+    import wordkin.index.formats as formats
 
     def boom(*a, **k):
         raise AssertionError("re-parsed")
@@ -45,9 +47,7 @@ def test_modified_source_is_rebuilt(small):
     assert b.cache_note.startswith("rebuilt") and "extra" in b.words
 
 
-@pytest.mark.parametrize(
-    "damage", ["truncate-matrix", "edit-meta", "old-version", "drop-words", "garbage-meta"]
-)
+@pytest.mark.parametrize("damage", ["truncate-matrix", "edit-meta", "old-version", "drop-words", "garbage-meta"])
 def test_damaged_cache_is_rebuilt(small, damage):
     path, cache = small
     a = open_vectors(path, cache_root=cache)
@@ -75,7 +75,7 @@ def test_damaged_cache_is_rebuilt(small, damage):
 
 def test_unwritable_cache_falls_back_to_no_cache(small, monkeypatch):
     path, _ = small
-    import index.cache as cache_mod
+    import wordkin.index.cache as cache_mod
 
     def full(*a, **k):
         raise OSError(28, "No space left on device")
@@ -91,16 +91,18 @@ def test_no_cache_keeps_nothing(tmp_path):
     assert vs.n == 76
 
 
-def test_damaged_annoy_index_is_ignored(small):
+def test_damaged_annoy_index_is_rejected_with_the_reason(small):
     path, cache = small
     vs = open_vectors(path, cache_root=cache)
-    ann.build(vs, n_trees=5)
-    assert ann.load(vs) is not None
+    build(vs, n_trees=5)
+    assert ann.load(vs).state is ann.IndexState.READY
     f = vs.cache_dir / ann.INDEX_FILE
     data = f.read_bytes()
     f.write_bytes(data[: len(data) // 2])
     vs2 = open_vectors(path, cache_root=cache)
-    assert ann.load(vs2) is None and any("annoy" in w for w in vs2.warnings)
+    loaded = ann.load(vs2)
+    assert loaded.state is ann.IndexState.REJECTED and loaded.index is None
+    assert "annoy.ann has" in loaded.reason and "bytes, expected" in loaded.reason
     # A foreign index of the same size but other dimensions is refused too.
     from annoy import AnnoyIndex
 
@@ -109,7 +111,7 @@ def test_damaged_annoy_index_is_ignored(small):
         other.add_item(i, np.ones(8))
     other.build(2)
     other.save(str(f))
-    vs2.meta["index"]["file_bytes"] = f.stat().st_size
     vs3 = open_vectors(path, cache_root=cache)
-    vs3.meta["index"]["file_bytes"] = f.stat().st_size
-    assert ann.load(vs3) is None
+    vs3.meta = vs3.meta.with_index(dataclasses.replace(vs3.meta.index, file_bytes=(f.stat().st_size,)))
+    loaded = ann.load(vs3)
+    assert loaded.state is ann.IndexState.REJECTED and loaded.reason  # wrong dimensions: annoy itself refuses it

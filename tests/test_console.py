@@ -10,11 +10,12 @@ import pytest
 from gensim.models import KeyedVectors
 from textual.widgets import DataTable, Input, Static
 
-from console.app import WordkinApp, create_app
-from console.pane_arith import ArithmeticPane
-from console.pane_neighbours import NeighboursPane
-from console.pane_similarity import SimilarityPane
-from console.safe_text import visible
+from wordkin.console.app import WordkinApp, create_app
+from wordkin.console.pane_arith import ArithmeticPane
+from wordkin.console.pane_neighbours import NeighboursPane
+from wordkin.console.pane_notebook import NotebookPane
+from wordkin.console.pane_similarity import SimilarityPane
+from wordkin.console.safe_text import visible
 
 from .conftest import write_w2v_text
 
@@ -39,8 +40,7 @@ def table_words(table: DataTable) -> list[str]:
 
 async def opened(pilot) -> WordkinApp:
     app = pilot.app
-    await wait_for(pilot, lambda: app.vectors is not None and app.index_state.value in ("ready", "failed", "empty"))
-    await wait_for(pilot, lambda: app.index_state.value != "building")
+    await wait_for(pilot, lambda: app.session is not None and app.session.state.value != "building")
     return app
 
 
@@ -55,11 +55,11 @@ def test_neighbours_pane_matches_gensim_drill_down_and_back(lee_model, tmp_path)
             assert app.focused.id == "nb-word"  # the neighbour input has focus on open
             word = kv.index_to_key[25]
             await pilot.press(*word, "enter")
-            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.NeighboursFound) for m in seen))
-            found = [m for m in seen if isinstance(m, NeighboursPane.NeighboursFound)][-1]
+            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.Answered) for m in seen))
+            found = [m for m in seen if isinstance(m, NeighboursPane.Answered)][-1]
             ref = kv.most_similar(word, topn=10)
-            assert [n.word for n in found.result.results] == [w for w, _ in ref]
-            np.testing.assert_allclose([n.similarity for n in found.result.results], [s for _, s in ref], atol=1e-5)
+            assert [n.word for n in found.result.rows] == [w for w, _ in ref]
+            np.testing.assert_allclose([n.similarity for n in found.result.rows], [s for _, s in ref], atol=1e-5)
             table = app.query_one("#nb-table", DataTable)
             await wait_for(pilot, lambda: table.row_count == 10)
             assert table_words(table) == [w for w, _ in ref]
@@ -68,12 +68,12 @@ def test_neighbours_pane_matches_gensim_drill_down_and_back(lee_model, tmp_path)
             table.focus()
             await pilot.press("down", "enter")
             second = ref[1][0]
-            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.query == second)
+            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.word == second)
             assert table_words(table)[:3] == [w for w, _ in kv.most_similar(second, topn=3)]
             await pilot.press("ctrl+b")
-            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.query == word)
+            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.word == word)
             await pilot.press("ctrl+f")
-            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.query == second)
+            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.word == second)
             marks = [m for m in seen if isinstance(m, NeighboursPane.MutualMarked)]
             assert marks and len(marks[-1].marks) == 10
 
@@ -91,11 +91,11 @@ def test_unknown_word_shows_close_matches_and_app_lives(lee_model, tmp_path):
             word = kv.index_to_key[40]
             typo = word[:-1] + "q" + word[-1]
             await pilot.press(*typo, "enter")
-            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.QueryFailed) for m in seen))
+            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.Failed) for m in seen))
             msg = str(app.query_one("#nb-message", Static).render())
             assert "not in the vocabulary" in msg and word in msg
             await pilot.press("ctrl+u", *word, "enter")
-            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.NeighboursFound) for m in seen))
+            await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.Answered) for m in seen))
 
     run(main())
 
@@ -117,10 +117,10 @@ def test_arithmetic_pane_error_position_and_result(lee_model, tmp_path):
             # The caret sits under the end of the text, where ")" was expected (3 cells of border and padding).
             assert caret == len(f"{b} - ({a}") + 3 and "expected" in check
             await pilot.press(*f") + {c}", "enter")
-            await wait_for(pilot, lambda: any(isinstance(m, ArithmeticPane.CalcDone) for m in seen))
-            res = [m for m in seen if isinstance(m, ArithmeticPane.CalcDone)][-1].result
+            await wait_for(pilot, lambda: any(isinstance(m, ArithmeticPane.Answered) for m in seen))
+            res = [m for m in seen if isinstance(m, ArithmeticPane.Answered)][-1].result
             ref = kv.most_similar(positive=[b, c], negative=[a], topn=10)
-            assert [r.word for r in res.results] == [w for w, _ in ref]
+            assert [r.word for r in res.rows] == [w for w, _ in ref]
             table = app.query_one("#ar-table", DataTable)
             await wait_for(pilot, lambda: table.row_count == 10)
             assert "excluded" in app.query_one("#ar-message", Static).render().plain
@@ -138,14 +138,14 @@ def test_similarity_pane_matches_gensim(lee_model, tmp_path):
         async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
             await opened(pilot)
             await pilot.press("f4", *" ".join(words), "enter")
-            await wait_for(pilot, lambda: any(isinstance(m, SimilarityPane.SimilarityDone) for m in seen))
+            await wait_for(pilot, lambda: any(isinstance(m, SimilarityPane.Answered) for m in seen))
             table = app.query_one("#sm-table", DataTable)
             await wait_for(pilot, lambda: table.row_count == 5)
             for i, a in enumerate(words):
                 row = table.get_row_at(i)
                 for j, b in enumerate(words):
                     assert float(row[j + 1].plain) == pytest.approx(float(kv.similarity(a, b)), abs=6e-4)
-            res = [m for m in seen if isinstance(m, SimilarityPane.SimilarityDone)][-1].result
+            res = [m for m in seen if isinstance(m, SimilarityPane.Answered)][-1].result
             assert res.odd_one_out in words
             table.focus()
             await pilot.press("right", "right")
@@ -216,10 +216,10 @@ def test_hostile_words_shown_literally(tmp_path):
             table.focus()
             idx = shown.index(visible("\x1b[31mred"))
             await pilot.press(*(["down"] * idx), "enter")
-            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.query == "\x1b[31mred")
+            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.word == "\x1b[31mred")
             assert app.query_one("#nb-word", Input).value == "\\x1b[31mred"
             await pilot.press("escape", "enter")
-            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.query == "\x1b[31mred")
+            await wait_for(pilot, lambda: app.query_one(NeighboursPane).result.word == "\x1b[31mred")
 
     run(main())
 
@@ -232,7 +232,7 @@ def test_load_failure_is_shown_not_crashed(tmp_path):
         app = create_app(str(bad), notebook=str(tmp_path / "nb.wkn"))
         async with app.run_test(size=SIZE) as pilot:
             await wait_for(pilot, lambda: "line 3" in app.query_one("StatusLine").notice)
-            assert app.vectors is None
+            assert app.session is None
             await pilot.press(*"harbour", "enter")
             await pilot.pause(0.1)
             assert "loading" in app.query_one("#nb-message", Static).render().plain
@@ -251,13 +251,14 @@ def test_save_from_pane_to_notebook(lee_model, tmp_path):
             await pilot.press(*kv.index_to_key[12], "enter")
             await wait_for(pilot, lambda: app.query_one(NeighboursPane).result is not None)
             await pilot.press("ctrl+s")
-            await pilot.pause(0.2)
-            from console.notebook import Notebook
+            pane = app.query_one(NotebookPane)
+            await wait_for(pilot, lambda: len(pane.entries) == 1)
+            from wordkin.console.notebook import Notebook
 
             with Notebook.open(nb) as book:
                 entries = book.entries()
-            assert len(entries) == 1 and entries[0].query["word"] == kv.index_to_key[12]
-            assert [r["word"] for r in entries[0].result["rows"]] == [
+            assert len(entries) == 1 and entries[0].query.word == kv.index_to_key[12]
+            assert [r.word for r in entries[0].result.rows] == [
                 w for w, _ in kv.most_similar(kv.index_to_key[12], topn=10)
             ]
 
@@ -274,7 +275,7 @@ def test_lee_vectors_written_for_console(tmp_path):
 def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
     from pathlib import Path
 
-    from index import ann
+    from wordkin.index import ann
 
     from .conftest import structured_set
 
@@ -302,7 +303,7 @@ def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
             args = cmdline.read_bytes().split(b"\0")
         except OSError:
             continue
-        if b"index.ann_child" in args and any(str(cache).encode() in a for a in args):
+        if b"wordkin.index.ann_child" in args and any(str(cache).encode() in a for a in args):
             left.append(cmdline)
     assert left == []
     assert not list(cache.rglob("*.tmp"))

@@ -8,12 +8,11 @@ import sys
 
 import pytest
 
-from demo_vectors import analogies_path, demo_path, pairs_path
-from index.scoring import score_analogies, score_pairs
-from index.search import neighbours
-from index.store import open_vectors
+from wordkin.demo_vectors import analogies_path, demo_path, pairs_path
+from wordkin.index.scoring import score_analogies, score_pairs
+from wordkin.index.store import open_vectors
 
-from .conftest import ROOT, run_cli
+from .conftest import ROOT, neighbours, run_cli
 
 
 @pytest.fixture(scope="module")
@@ -142,8 +141,8 @@ def test_pairs_score_is_positive(demo):
 )
 def test_neighbours_are_of_their_topic(demo, word, family):
     res = neighbours(demo, word, 10)
-    hits = sum(r.word in family for r in res.results)
-    assert hits >= 7, [r.word for r in res.results]
+    hits = sum(r.word in family for r in res.rows)
+    assert hits >= 7, [r.word for r in res.rows]
 
 
 def test_regeneration_reproduces_the_set(tmp_path, demo):
@@ -151,7 +150,7 @@ def test_regeneration_reproduces_the_set(tmp_path, demo):
     # set was made); floating-point details can differ between CPUs and BLAS builds, so this checks what must
     # hold everywhere: the same vocabulary in the same order, and an analogy accuracy within 0.05.
     subprocess.run(
-        [sys.executable, "-m", "demo_vectors.generate", "--out", str(tmp_path)],
+        [sys.executable, "-m", "wordkin.demo_vectors.generate", "--out", str(tmp_path)],
         cwd=ROOT,
         check=True,
         capture_output=True,

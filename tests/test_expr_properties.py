@@ -5,7 +5,7 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from index.expr import Analogy, Centroid, ExprError, Scale, Sum, Word, parse, to_text
+from wordkin.index.expr import Analogy, Centroid, ExprError, Scale, Sum, Word, parse, to_text
 
 ALPHABET = st.characters(codec="utf-8", exclude_categories=("Cs",))
 
@@ -31,9 +31,7 @@ def trees():
         words,
         lambda inner: st.one_of(
             st.builds(Scale, weights, inner),
-            st.lists(st.tuples(st.sampled_from([1, -1]), inner), min_size=2, max_size=4).map(
-                lambda t: Sum(tuple(t))
-            ),
+            st.lists(st.tuples(st.sampled_from([1, -1]), inner), min_size=2, max_size=4).map(lambda t: Sum(tuple(t))),
             st.lists(inner, min_size=1, max_size=3).map(lambda t: Centroid(tuple(t))),
         ),
         max_leaves=8,

@@ -6,10 +6,9 @@ import numpy as np
 import pytest
 from gensim.models import KeyedVectors
 
-from index.search import neighbours
-from index.store import open_vectors
+from wordkin.index.store import open_vectors
 
-from .conftest import cli_json, gensim_data
+from .conftest import cli_json, gensim_data, neighbours
 
 
 def _gensim(path, **kw) -> KeyedVectors:
@@ -27,9 +26,7 @@ def _cases(lee_model):
     ]
 
 
-@pytest.mark.parametrize(
-    "case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"]
-)
+@pytest.mark.parametrize("case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"])
 def test_matrix_equals_gensim(lee_model, case):
     name, path, kw, fmt = _cases(lee_model)[case]
     kv = _gensim(path, **kw)
@@ -43,9 +40,7 @@ def test_matrix_equals_gensim(lee_model, case):
     np.testing.assert_allclose(np.linalg.norm(vs.unit, axis=1), 1.0, atol=1e-5)
 
 
-@pytest.mark.parametrize(
-    "case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"]
-)
+@pytest.mark.parametrize("case", range(5), ids=["glove", "fasttext-vec", "lee-text", "lee-binary", "lee-gzip"])
 def test_near_exact_equals_most_similar(lee_model, case):
     name, path, kw, _ = _cases(lee_model)[case]
     kv = _gensim(path, **kw)
@@ -64,4 +59,4 @@ def test_engine_api_matches_gensim_on_glove():
     vs = open_vectors(path)
     word = kv.index_to_key[3]
     res = neighbours(vs, word, 5, mode="exact")
-    assert [n.word for n in res.results] == [w for w, _ in kv.most_similar(word, topn=5)]
+    assert [n.word for n in res.rows] == [w for w, _ in kv.most_similar(word, topn=5)]

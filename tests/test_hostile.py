@@ -9,13 +9,12 @@ import struct
 import numpy as np
 import pytest
 
-from console.export import to_csv, to_json, to_markdown, to_text
-from console.notebook import Notebook, entry_from_result
-from index.errors import WordkinError
-from index.search import neighbours
-from index.store import from_arrays
+from wordkin.console.export import to_csv, to_json, to_markdown, to_text
+from wordkin.console.notebook import Entry, Notebook
+from wordkin.index.errors import WordkinError
+from wordkin.index.store import from_arrays
 
-from .conftest import run_cli
+from .conftest import neighbours, run_cli
 
 
 @pytest.fixture(scope="module")
@@ -80,22 +79,25 @@ def test_binary_words_with_spaces_and_empty_word(tmp_path):
     assert '""' in r.stdout and "quay\\x1b[2J" in r.stdout and "\x1b" not in r.stdout
 
 
-HOSTILE = ["=HYPERLINK(\"x\")", "a|b`c", "c1\x9bx", "bidi\u202eevil", "esc\x1b]0;t\x07", "-minus", "@at", ""]
+HOSTILE = ['=HYPERLINK("x")', "a|b`c", "c1\x9bx", "bidi\u202eevil", "esc\x1b]0;t\x07", "-minus", "@at", ""]
 
 
 def _hostile_notebook(tmp_path):
     vecs = np.random.default_rng(1).standard_normal((len(HOSTILE) + 1, 4)).astype(np.float32)
     vs = from_arrays(["harbour"] + HOSTILE, vecs)
     nb = Notebook.open(tmp_path / "h.wkn")
-    nb.add(entry_from_result(neighbours(vs, "harbour", len(HOSTILE)), vs, note="note with \x1b[31m and \u202e"))
+    nb.add(Entry.of(neighbours(vs, "harbour", len(HOSTILE)), vs, note="note with \x1b[31m and \u202e"))
     return nb
 
 
 def test_control_characters_in_every_export(tmp_path):
     nb = _hostile_notebook(tmp_path)
     entries = nb.entries()
-    for name, text in (("text", to_text(entries, "h.wkn", "t")), ("md", to_markdown(entries, "h.wkn", "t")),
-                       ("csv", to_csv(entries))):
+    for name, text in (
+        ("text", to_text(entries, "h.wkn", "t")),
+        ("md", to_markdown(entries, "h.wkn", "t")),
+        ("csv", to_csv(entries)),
+    ):
         for bad in ("\x1b", "\x9b", "\u202e", "\x07"):
             assert bad not in text, (name, bad)
         assert "\\x1b" in text and "\\u202e" in text and "\\x9b" in text, name
@@ -107,7 +109,7 @@ def test_control_characters_in_every_export(tmp_path):
     for bad in ("\x1b", "\x9b", "\u202e", "\x07"):
         assert bad not in js
     back = json.loads(js)["entries"][0]
-    assert {r["word"] for r in back["result"]["rows"]} == set(HOSTILE)  # JSON keeps the exact words
+    assert {r["word"] for r in back["result"]["results"]} == set(HOSTILE)  # JSON keeps the exact words
     nb.close()
 
 
@@ -160,7 +162,7 @@ def test_very_long_and_empty_words_in_the_console(tmp_path):
 
     from textual.widgets import DataTable
 
-    from console.app import create_app
+    from wordkin.console.app import create_app
 
     from .test_console import opened, table_words, wait_for
 

@@ -216,15 +216,7 @@ def test_compressed_variants(tmp_path):
 def test_binary_with_spaces_struct(tmp_path):
     # word2vec binary as the C tool writes it: newline after each vector.
     f = tmp_path / "c.bin"
-    body = (
-        b"2 2\n"
-        + b"harbour "
-        + struct.pack("<2f", 1, 0)
-        + b"\n"
-        + b"quay "
-        + struct.pack("<2f", 0.9, 0.1)
-        + b"\n"
-    )
+    body = b"2 2\n" + b"harbour " + struct.pack("<2f", 1, 0) + b"\n" + b"quay " + struct.pack("<2f", 0.9, 0.1) + b"\n"
     f.write_bytes(body)
     r = run_cli("near", str(f), "harbour", "--json", "--no-cache")
     assert r.returncode == 0 and '"quay"' in r.stdout, r.stderr

@@ -17,15 +17,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from console.export import csv_cell, md_cell, render, to_csv, to_markdown, write_file
-from console.notebook import Entry, Notebook, entry_from_result
-from console.notebook_diff import diff, diff_text, rerun
-from index.analogy import calc
-from index.search import neighbours
-from index.similarity import similarity
-from index.store import from_arrays
+from wordkin.console.export import csv_cell, md_cell, render, to_csv, to_markdown, write_file
+from wordkin.console.notebook import Entry, Notebook
+from wordkin.console.notebook_diff import diff_text, rerun
+from wordkin.index.store import from_arrays
 
-from .conftest import ROOT, run_cli
+from .conftest import ROOT, calc, neighbours, run_cli, session_of, similarity, stub_entry
 
 GOLDEN = Path(__file__).parent / "golden"
 
@@ -56,8 +53,9 @@ def test_cli_save_every_kind_then_json_round_trip(tmp_path, lee_model):
     with Notebook.open(nb) as book:
         entries = book.entries()
     assert [e.kind for e in entries] == ["neighbours", "arithmetic", "arithmetic", "similarity"]
-    assert entries[0].note == "keep the first three" and len(entries[0].result["rows"]) == 5
-    assert entries[1].result["target"]["word"] == w[23]
+    assert entries[0].note == "keep the first three" and len(entries[0].result.rows) == 5
+    assert entries[1].result.target == w[23]
+    assert entries[2].query.method == "mul"
     assert entries[0].vector_set["words"] == len(w)
     out1 = tmp_path / "a.json"
     assert run_cli("export", str(nb), "--format", "json", "-o", str(out1)).returncode == 0
@@ -75,19 +73,20 @@ def test_cli_save_every_kind_then_json_round_trip(tmp_path, lee_model):
 
 WRITER = """
 import sys
-from console.notebook import Entry, Notebook
+from tests.conftest import stub_entry
+from wordkin.console.notebook import Notebook
 nb = Notebook.open(sys.argv[1])
 tag = sys.argv[2]
 for i in range(int(sys.argv[3])):
-    e = Entry("neighbours", {"word": f"{tag}-{i}"}, {"k": 1}, {"path": "x"}, {"rows": []}, note=tag)
-    nb.add(e)
+    nb.add(stub_entry(f"{tag}-{i}", note=tag))
     print(f"{tag}-{i}", flush=True)
 """
 
 
 def _writer(nb: Path, tag: str, n: int) -> subprocess.Popen:
-    return subprocess.Popen([sys.executable, "-c", WRITER, str(nb), tag, str(n)], cwd=ROOT, stdout=subprocess.PIPE,
-                            text=True)
+    return subprocess.Popen(
+        [sys.executable, "-c", WRITER, str(nb), tag, str(n)], cwd=ROOT, stdout=subprocess.PIPE, text=True
+    )
 
 
 def _saved_words(nb: Path) -> set[str]:
@@ -143,7 +142,7 @@ def test_truncated_notebook_is_refused_untouched(tmp_path):
     nb = tmp_path / "t.wkn"
     with Notebook.open(nb) as book:
         for i in range(200):
-            book.add(Entry("neighbours", {"word": f"w{i}"}, {}, {}, {"rows": []}, note="x" * 200))
+            book.add(stub_entry(f"w{i}", note="x" * 200))
     data = nb.read_bytes()
     cut = data[: len(data) // 2]
     nb.write_bytes(cut)
@@ -175,7 +174,7 @@ def _golden_notebook(path: Path) -> Notebook:
         (similarity(vs, ["harbour", "quay", "ferry", "inn"]), "inn is the odd one out: lodging among harbour words"),
     ]
     for i, (res, note) in enumerate(items):
-        e = entry_from_result(res, vs, note=note)
+        e = Entry.of(res, vs, note=note)
         e.created = e.updated = f"2026-11-30T09:0{i}:00+00:00"
         nb.add(e)
     return nb
@@ -217,30 +216,30 @@ def test_write_file_is_atomic_and_refuses_overwrite(tmp_path):
 
 def test_rerun_reports_gained_lost_moved(tmp_path):
     vs = _tiny()
-    e = entry_from_result(neighbours(vs, "harbour", 4), vs)
-    same = diff(e, rerun(e, vs))
+    e = Entry.of(neighbours(vs, "harbour", 4), vs)
+    new, same = rerun(e, session_of(vs))
     assert not same.changed and same.same == 4
     # A second version of the set: quay moved away from harbour.
     words = list(vs.words)
     vecs = np.asarray(vs.unit) * vs.norms[:, None]
     vecs[words.index("quay")] = -vecs[words.index("harbour")]
     vs2 = from_arrays(words, vecs, source="/data/brackwater-tiny-v2.vec")
-    d = diff(e, rerun(e, vs2))
+    new, d = rerun(e, session_of(vs2))
     assert ("quay", 1) in d.lost or any(w == "quay" for w, _ in d.lost)
     assert d.gained and d.changed
-    text = diff_text(d, e.vector_set, rerun(e, vs2).vector_set)
+    text = diff_text(d, e.vector_set, new.vector_set)
     assert "lost:" in text and "quay" in text
 
 
 def test_notebook_order_delete_undo(tmp_path):
     with Notebook.open(tmp_path / "o.wkn") as nb:
-        ids = [nb.add(Entry("neighbours", {"word": w}, {}, {}, {"rows": []})) for w in "abc"]
+        ids = [nb.add(stub_entry(w)) for w in "abc"]
         nb.move(ids[2], -2)
-        assert [e.query["word"] for e in nb.entries()] == ["c", "a", "b"]
+        assert [e.query.word for e in nb.entries()] == ["c", "a", "b"]
         nb.delete(ids[0])
-        assert [e.query["word"] for e in nb.entries()] == ["c", "b"]
+        assert [e.query.word for e in nb.entries()] == ["c", "b"]
         nb.undelete(ids[0])
-        assert [e.query["word"] for e in nb.entries()] == ["c", "a", "b"]
+        assert [e.query.word for e in nb.entries()] == ["c", "a", "b"]
         nb.set_note(ids[1], "edited")
         assert nb.get(ids[1]).note == "edited"
 
@@ -249,7 +248,7 @@ def test_read_only_notebook_export_works_and_save_fails_cleanly(tmp_path, lee_mo
     _, paths = lee_model
     nb = tmp_path / "ro.wkn"
     with Notebook.open(nb) as book:
-        book.add(Entry("neighbours", {"word": "a"}, {}, {}, {"rows": []}))
+        book.add(stub_entry("a"))
     os.chmod(nb, 0o444)
     os.chmod(tmp_path, 0o555)
     try:

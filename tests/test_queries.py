@@ -8,13 +8,11 @@ import numpy as np
 import pytest
 from gensim.models import KeyedVectors
 
-from index.analogy import calc
-from index.errors import UnknownWordError, UsageError
-from index.scoring import score_analogies, score_pairs
-from index.similarity import similarity
-from index.store import from_arrays, open_vectors
+from wordkin.index.errors import UnknownWordError, UsageError
+from wordkin.index.scoring import score_analogies, score_pairs
+from wordkin.index.store import from_arrays, open_vectors
 
-from .conftest import cli_json, gensim_data, run_cli
+from .conftest import calc, cli_json, gensim_data, run_cli, similarity
 
 
 @pytest.fixture(scope="module")
@@ -38,7 +36,7 @@ def test_calc_add_equals_most_similar(lee):
         assert set(got["excluded"]) == {a, b, c}
         # The analogy form asks the same question.
         ana = calc(vs, f"{a} : {b} :: {c} : ?", 10)
-        assert [r.word for r in ana.results] == [w for w, _ in ref]
+        assert [r.word for r in ana.rows] == [w for w, _ in ref]
 
 
 def test_calc_mul_equals_most_similar_cosmul(lee):
@@ -48,8 +46,8 @@ def test_calc_mul_equals_most_similar_cosmul(lee):
         # gensim's most_similar_cosmul uses epsilon 1e-6 where Levy and Goldberg (2014) use 0.001 (our default);
         # with gensim's epsilon the answers must be identical.
         got = calc(vs, f"{b} - {a} + {c}", 10, method="mul", epsilon=1e-6)
-        assert [r.word for r in got.results] == [w for w, _ in ref]
-        np.testing.assert_allclose([r.similarity for r in got.results], [s for _, s in ref], rtol=1e-4)
+        assert [r.word for r in got.rows] == [w for w, _ in ref]
+        np.testing.assert_allclose([r.similarity for r in got.rows], [s for _, s in ref], rtol=1e-4)
 
 
 def test_score_analogies_equals_gensim(lee):
@@ -143,18 +141,18 @@ TINY = np.array([[1, 0, 0], [1, 1, 0], [1, 0, 1], [1, 1, 1], [0, 0, -1], [0, 0, 
 def test_tiny_known_answers():
     vs = from_arrays(TINY_WORDS, TINY)
     res = calc(vs, "man : king :: woman : queen", 10)
-    assert [r.word for r in res.results] == ["queen", "boat"]
-    assert res.results[0].similarity == pytest.approx(0.9753, abs=1e-4)
-    assert res.results[1].similarity == pytest.approx(-0.6533, abs=1e-4)
+    assert [r.word for r in res.rows] == ["queen", "boat"]
+    assert res.rows[0].similarity == pytest.approx(0.9753, abs=1e-4)
+    assert res.rows[1].similarity == pytest.approx(-0.6533, abs=1e-4)
     assert res.target_rank == 1 and res.target_similarity == pytest.approx(0.9753, abs=1e-4)
     # 3CosMul with eps 0.001: queen: s(q,king)=(1+0.8165)/2=0.9082, s(q,woman)=0.9082, s(q,man)=(1+0.5774)/2=0.7887
     #   0.9082 * 0.9082 / (0.7887 + 0.001) = 1.0446
     mul = calc(vs, "king - man + woman", 1, method="mul")
-    assert mul.results[0].word == "queen" and mul.results[0].similarity == pytest.approx(1.0446, abs=1e-3)
+    assert mul.rows[0].word == "queen" and mul.rows[0].similarity == pytest.approx(1.0446, abs=1e-3)
     # Weights and centroids: {man, woman} = (1.7071, 0.7071, 0)/2 is nearest king? cos(king) = 1.2071/(1.8478*1)...
     cen = calc(vs, "{man, woman}", 3, keep_inputs=True)
-    assert cen.results[0].word in ("man", "woman")  # the centroid lies between them, 22.5 degrees from each
-    assert cen.results[0].similarity == pytest.approx(np.cos(np.pi / 8), abs=1e-5)
+    assert cen.rows[0].word in ("man", "woman")  # the centroid lies between them, 22.5 degrees from each
+    assert cen.rows[0].similarity == pytest.approx(np.cos(np.pi / 8), abs=1e-5)
     assert calc(vs, "2*king - king", 1).excluded == ("king",)
     sim = similarity(vs, ["man", "woman", "king", "boat"])
     assert sim.matrix[0][1] == pytest.approx(1 / np.sqrt(2), abs=1e-6)

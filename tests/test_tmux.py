@@ -28,9 +28,20 @@ class Tmux:
 
     def start(self, *cli: str) -> None:
         env = f"WORDKIN_CACHE={shlex.quote(str(self.tmp / 'cache'))} WORDKIN_DATA={shlex.quote(str(self.tmp))}"
-        cmd = " ".join(shlex.quote(c) for c in (sys.executable, "-m", "console.cli", *cli))
-        self.tm("new-session", "-d", "-s", "t", "-x", "80", "-y", "24", "-c", str(ROOT),
-                f"env {env} TERM=xterm-256color {cmd}; echo EXIT=$?; sleep 30")
+        cmd = " ".join(shlex.quote(c) for c in (sys.executable, "-m", "wordkin.console.cli", *cli))
+        self.tm(
+            "new-session",
+            "-d",
+            "-s",
+            "t",
+            "-x",
+            "80",
+            "-y",
+            "24",
+            "-c",
+            str(ROOT),
+            f"env {env} TERM=xterm-256color {cmd}; echo EXIT=$?; sleep 30",
+        )
 
     def screen(self) -> str:
         return self.tm("capture-pane", "-t", "t", "-p")
@@ -62,7 +73,7 @@ def test_console_in_a_real_terminal(tmux, lee_model):
     kv, paths = lee_model
     tmux.start("open", str(paths["text"]))
     tmux.wait("words")
-    tmux.wait("index ready")
+    tmux.wait("exact search: small set")  # the index is built, and a set this small is scanned
     word = kv.index_to_key[20]
     tmux.keys(word, "Enter")
     expected = [w for w, _ in kv.most_similar(word, topn=5)]

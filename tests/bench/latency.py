@@ -15,14 +15,17 @@ import numpy as np
 def main() -> None:
     from gensim.models import KeyedVectors
 
-    from index import ann
-    from index.analogy import calc
-    from index.search import exact_top, neighbours
-    from index.store import open_vectors
+    from wordkin.index import ann
+    from wordkin.index.queries import Arithmetic, Neighbours
+    from wordkin.index.search import exact_top
+    from wordkin.index.session import Session
+    from wordkin.index.store import open_vectors
 
     vs = open_vectors(sys.argv[1])
-    idx = ann.load(vs)
-    assert idx is not None, "run wordkin prepare first"
+    loaded = ann.load(vs)
+    assert loaded.index is not None, f"run wordkin prepare first ({loaded.state.value} {loaded.reason})"
+    session = Session.from_load(vs, loaded)
+    exact = Session(vs)
     kv = KeyedVectors.load(sys.argv[2], mmap="r")
     kv.fill_norms()
     rng = np.random.default_rng(2024)
@@ -44,23 +47,23 @@ def main() -> None:
     time.sleep(0.5)
     for r, want in zip(qs, truth, strict=True):
         t0 = time.perf_counter()
-        res = neighbours(vs, vs.words[int(r)], 10, ann=idx, mode="ann")
+        res = Neighbours(vs.words[int(r)], 10).run(session)
         t_ann.append(time.perf_counter() - t0)
-        hits += len(want & {n.word for n in res.results})
+        hits += len(want & {n.word for n in res.rows})
     c_ann, c_gen, agree = [], [], 0
     triples = rng.choice(vs.n, (200, 3), replace=False) if vs.n >= 600 else rng.choice(vs.n, (200, 3))
     exprs = [" ".join((vs.words[int(b)], "-", vs.words[int(a)], "+", vs.words[int(c)])) for a, b, c in triples]
-    exact_top1 = [calc(vs, e, 1, mode="exact").results[0].word for e in exprs]
-    for (a, b, c) in triples:
+    exact_top1 = [Arithmetic(e, 1).run(exact).rows[0].word for e in exprs]
+    for a, b, c in triples:
         t0 = time.perf_counter()
         kv.most_similar(positive=[vs.words[int(b)], vs.words[int(c)]], negative=[vs.words[int(a)]], topn=10)
         c_gen.append(time.perf_counter() - t0)
     time.sleep(0.5)
     for e, want in zip(exprs, exact_top1, strict=True):
         t0 = time.perf_counter()
-        got = calc(vs, e, 10, ann=idx)
+        got = Arithmetic(e, 10).run(session)
         c_ann.append(time.perf_counter() - t0)
-        agree += got.results[0].word == want
+        agree += got.rows[0].word == want
     ms = lambda xs, q=50: float(np.percentile(xs, q) * 1000)  # noqa: E731
     print(
         json.dumps(

@@ -85,7 +85,7 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
     # 1. Cold open: process start to a usable matrix (ours writes its cache on the way).
     for kind in ("text", "binary"):
         shutil.rmtree(cache, ignore_errors=True)
-        t_ours, rss_ours, _ = proc_rss([PY, "-m", "console.cli", "info", str(files[kind]), "--json"], env)
+        t_ours, rss_ours, _ = proc_rss([PY, "-m", "wordkin.console.cli", "info", str(files[kind]), "--json"], env)
         t_gen, rss_gen, _ = proc_rss(gensim_load(files[kind], kind == "binary"))
         rows.append(f"| {label} | cold open, {kind} | {t_ours:.2f} s | {t_gen:.2f} s | {t_gen / t_ours:.1f}x |")
         rows.append(
@@ -96,8 +96,8 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
             checks.append(Check(f"{label} text parse vs gensim", t_gen / t_ours, 8.0))
         checks.append(Check(f"{label} peak RSS / matrix, cold {kind}", rss_ours / mat_bytes, 1.5, False, ""))
     # 2. Index build (with its recall measurement), through the CLI as a user would.
-    t_build, _, out = proc_rss([PY, "-m", "console.cli", "prepare", str(files["text"])], env)
-    meta = json.loads(proc_rss([PY, "-m", "console.cli", "info", str(files["text"]), "--json"], env)[2])
+    t_build, _, out = proc_rss([PY, "-m", "wordkin.console.cli", "prepare", str(files["text"])], env)
+    meta = json.loads(proc_rss([PY, "-m", "wordkin.console.cli", "info", str(files["text"]), "--json"], env)[2])
     rows.append(
         f"| {label} | `wordkin prepare` (annoy {meta['index']['trees']} trees, recall check) | {t_build:.1f} s "
         f"| - | search_k {meta['index']['search_k']}, recall@10 {meta['index']['recall_at_10']} |"
@@ -114,7 +114,7 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
         check=True,
     )
     word = "w000123"
-    ours_cmd = [PY, "-m", "console.cli", "near", str(files["text"]), word, "--json"]
+    ours_cmd = [PY, "-m", "wordkin.console.cli", "near", str(files["text"]), word, "--json"]
     gen_cmd = [
         PY,
         "-c",

@@ -13,8 +13,8 @@ import time
 def main() -> None:
     from gensim.models import KeyedVectors
 
-    from index.scoring import score_analogies
-    from index.store import open_vectors
+    from wordkin.index.scoring import score_analogies
+    from wordkin.index.store import open_vectors
 
     vs = open_vectors(sys.argv[1])
     kv = KeyedVectors.load(sys.argv[2], mmap="r")

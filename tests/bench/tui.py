@@ -19,21 +19,22 @@ import numpy as np
 async def latency(path: str) -> list[float]:
     from textual.widgets import Input
 
-    from console.app import create_app
-    from console.pane_neighbours import NeighboursPane
+    from wordkin.console.app import create_app
+    from wordkin.console.pane_neighbours import NeighboursPane
 
     app = create_app(path, notebook=tempfile.mktemp(suffix=".wkn"))
     out = []
     async with app.run_test(size=(80, 24)) as pilot:
         end = time.monotonic() + 300
-        while app.ann is None:
+        while app.session is None or app.session.index is None:
             if time.monotonic() > end:
                 raise SystemExit(f"index never ready: {app.query_one('StatusLine').mode}")
             await pilot.pause(0.05)
         rng = np.random.default_rng(3)
         box = app.query_one("#nb-word", Input)
-        for r in rng.choice(app.vectors.n, 30, replace=False):
-            box.value = app.vectors.words[int(r)]
+        vs = app.session.vectors
+        for r in rng.choice(vs.n, 30, replace=False):
+            box.value = vs.words[int(r)]
             await pilot.pause(0.05)
             pane = app.query_one(NeighboursPane)
             before = pane.result
@@ -56,18 +57,18 @@ async def stall(path: str) -> float:
 
     from textual.widgets import Input
 
-    from console.app import create_app
+    from wordkin.console.app import create_app
 
     os.environ["WORDKIN_CACHE"] = tempfile.mkdtemp()  # a cold open: parse and build the index from scratch
     app = create_app(path, notebook=tempfile.mktemp(suffix=".wkn"))
     ticks: list[float] = []
     async with app.run_test(size=(80, 24)) as pilot:
         app.set_interval(0.02, lambda: ticks.append(time.perf_counter()))
-        while app.vectors is None:
+        while app.session is None:
             await pilot.pause(0.05)
         ticks.clear()
         end = time.monotonic() + 300
-        while app.ann is None:
+        while app.session is None or app.session.index is None:
             if time.monotonic() > end:
                 raise SystemExit(f"index never ready: {app.query_one('StatusLine').mode}")
             app.query_one("#nb-word", Input).insert_text_at_cursor("a")  # typing while the index builds
