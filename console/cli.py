@@ -11,6 +11,7 @@ from collections.abc import Sequence
 from wordkin.index.errors import UsageError, WordkinError
 
 from .cli_queries import COMMANDS
+from .commands_terms import add_parser as add_terms_parser
 from .safe_text import visible
 
 
@@ -51,6 +52,8 @@ def build_parser() -> argparse.ArgumentParser:
     _shared(p)
 
     for qc in COMMANDS:
+        if qc.add_arguments is None:
+            continue  # a command with a parser of its own
         p = sub.add_parser(qc.name, help=qc.help)
         p.add_argument("file")
         qc.add_arguments(p)
@@ -76,7 +79,9 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--force", action="store_true", help="overwrite OUT if it exists")
     p.add_argument("--debug", action="store_true")
 
-    p = sub.add_parser("import", help="import a JSON export into a notebook")
+    add_terms_parser(sub, _shared)
+
+    p = sub.add_parser("import", help="import a JSON export (notebook or term list) into a notebook")
     p.add_argument("json_file", metavar="JSON")
     p.add_argument("notebook", metavar="NB")
     p.add_argument("--debug", action="store_true")

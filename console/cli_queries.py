@@ -1,8 +1,8 @@
-"""The commands that answer a query (``near``, ``calc``, ``sim``): one row of a table per query kind, holding its
-arguments, how they become a query value and how a query value becomes arguments again.
+"""The commands that answer a query (``near``, ``calc``, ``sim``, ``terms suggest``): one row of a table per query
+kind, holding its arguments, how they become a query value and how a query value becomes a command line again.
 
-Every option of a kind is an argument of its command: ``to_argv(query)`` followed by ``build(args)`` gives the same
-query back (a test walks every kind of the registry and every combination of its options through both).
+Every option of a kind is an argument of its command: ``argv_for(query, ...)`` then the command gives the same
+answer as the query itself (a test walks every kind of the registry and every combination of its options).
 """
 
 from __future__ import annotations
@@ -10,19 +10,23 @@ from __future__ import annotations
 import argparse
 from collections.abc import Callable
 from dataclasses import dataclass
+from pathlib import Path
 
 from wordkin.index.errors import UsageError
-from wordkin.index.queries import KINDS, Arithmetic, Neighbours, Query, Similarity
+from wordkin.index.queries import KINDS, Arithmetic, Neighbours, Query, Similarity, TermSuggest
 
 
 @dataclass(frozen=True)
 class QueryCommand:
+    """``add_arguments`` and ``build`` are None for a command with a parser of its own (``terms suggest``)."""
+
     name: str
     kind: str
     help: str
-    add_arguments: Callable[[argparse.ArgumentParser], None]
-    build: Callable[[argparse.Namespace], Query]
-    to_argv: Callable[[Query], list[str]]
+    add_arguments: Callable[[argparse.ArgumentParser], None] | None
+    build: Callable[[argparse.Namespace], Query] | None
+    #: The whole command line for a query: (query, vector file, a scratch folder for any notebook it needs).
+    to_argv: Callable[[Query, str, Path], list[str]]
 
 
 def _flag(on: bool, name: str) -> list[str]:
@@ -61,10 +65,11 @@ def _near(a: argparse.Namespace) -> Query:
     return Neighbours(a.word, a.k, a.top, a.hide_forms, a.fold_case, a.exact)
 
 
-def _near_argv(q: Query) -> list[str]:
+def _near_argv(q: Query, file: str, scratch: Path) -> list[str]:
     assert isinstance(q, Neighbours)
     return [
         "near",
+        file,
         q.word,
         "-k",
         str(q.k),
@@ -89,10 +94,11 @@ def _calc(a: argparse.Namespace) -> Query:
     return Arithmetic(a.expr, a.k, a.method, a.top, a.keep_inputs, a.exact)
 
 
-def _calc_argv(q: Query) -> list[str]:
+def _calc_argv(q: Query, file: str, scratch: Path) -> list[str]:
     assert isinstance(q, Arithmetic)
     return [
         "calc",
+        file,
         q.expression,
         "-k",
         str(q.k),
@@ -112,9 +118,44 @@ def _sim(a: argparse.Namespace) -> Query:
     return Similarity(tuple(a.words))
 
 
-def _sim_argv(q: Query) -> list[str]:
+def _sim_argv(q: Query, file: str, scratch: Path) -> list[str]:
     assert isinstance(q, Similarity)
-    return ["sim", "--", *q.words]
+    return ["sim", file, *q.words]
+
+
+def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    """``terms suggest`` reads the list's state from a notebook: one is written in ``scratch`` with that state."""
+    assert isinstance(q, TermSuggest)
+    from .notebook import Notebook
+    from .terms import create_list, decide
+
+    nb = scratch / "terms.wkn"
+    with Notebook.open(nb) as book:
+        book.con.execute("DELETE FROM term_shown")
+        book.con.execute("DELETE FROM term_decisions")
+        book.con.execute("DELETE FROM term_lists")
+        create_list(book, q.name, list(q.seeds))
+        for state, words in (("kept", q.kept), ("dropped", q.dropped), ("aside", q.aside)):
+            if words:
+                decide(book, q.name, list(words), state)
+    return [
+        "terms",
+        "suggest",
+        file,
+        str(nb),
+        q.name,
+        "-k",
+        str(q.k),
+        "--gamma",
+        repr(q.gamma),
+        "--support-k",
+        str(q.support_k),
+        *_opt(q.top, "--top"),
+        *_flag(q.hide_forms, "--hide-forms"),
+        *(["--include", q.include] if q.include else []),
+        *(["--exclude", q.exclude] if q.exclude else []),
+        *_flag(q.exact, "--exact"),
+    ]
 
 
 COMMANDS = (
@@ -130,14 +171,15 @@ COMMANDS = (
     QueryCommand(
         "sim", Similarity.kind, "pairwise cosines of a list of words, and the odd one out", _sim_args, _sim, _sim_argv
     ),
+    QueryCommand("terms suggest", TermSuggest.kind, "candidates for a term list", None, None, _terms_argv),
 )
 BY_NAME = {c.name: c for c in COMMANDS}
 BY_KIND = {c.kind: c for c in COMMANDS}
 
 
-def argv_for(q: Query) -> list[str]:
-    """The command line that asks ``q`` (without the vector file)."""
-    return BY_KIND[q.kind].to_argv(q)
+def argv_for(q: Query, file: str, scratch: Path) -> list[str]:
+    """The command line that asks ``q`` of vector file ``file`` (options may follow it)."""
+    return BY_KIND[q.kind].to_argv(q, file, scratch)
 
 
 def missing_kinds() -> set[str]:

@@ -23,7 +23,9 @@ from .safe_text import visible
 
 def cmd_query(args: argparse.Namespace) -> int:
     """``near``, ``calc`` or ``sim``: build the query from the arguments, answer it, print it, maybe save it."""
-    query = BY_NAME[args.cmd].build(args)
+    build = BY_NAME[args.cmd].build
+    assert build is not None
+    query = build(args)
     session = open_session(args, want_index=not getattr(args, "exact", False))
     try:
         res = query.run(session)
@@ -170,12 +172,28 @@ def cmd_export(args: argparse.Namespace) -> int:
 
 
 def cmd_import(args: argparse.Namespace) -> int:
-    from .export import import_json
+    """A notebook export or a term-list export, read and checked whole before the notebook is opened or created."""
+    from wordkin.index.errors import UnreadableFileError
+
+    from . import export, terms, terms_export
     from .notebook import Notebook
 
-    with Notebook.open(args.notebook) as nb:
-        n = import_json(args.json_file, nb)
-    note(f"imported {n} entr{'y' if n == 1 else 'ies'} into {args.notebook}")
+    doc = export.read_export(args.json_file)
+    fmt = doc.get("format")
+    if fmt == export.JSON_FORMAT:
+        entries = export.read_entries(args.json_file, doc)
+        with Notebook.open(args.notebook) as nb:
+            n = export.add_entries(nb, entries)
+        note(f"imported {n} entr{'y' if n == 1 else 'ies'} into {args.notebook}")
+    elif fmt == terms_export.JSON_FORMAT:
+        tl = terms_export.read_json(args.json_file, doc)
+        with Notebook.open(args.notebook) as nb:
+            terms.import_list(nb, tl)
+        note(f"imported term list {tl.name!r} ({len(tl.terms)} terms) into {args.notebook}")
+    else:
+        raise UnreadableFileError(
+            args.json_file, 'not a wordkin export (its "format" is neither a notebook nor a term list)'
+        )
     return 0
 
 
@@ -196,7 +214,14 @@ def cmd_demo(args: argparse.Namespace) -> int:
     return run_console(str(demo_path()), args)
 
 
+def cmd_terms(args: argparse.Namespace) -> int:
+    from .commands_terms import cmd_terms as run
+
+    return run(args)
+
+
 HANDLERS = {
+    "terms": cmd_terms,
     "near": cmd_query,
     "calc": cmd_query,
     "sim": cmd_query,

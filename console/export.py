@@ -226,28 +226,47 @@ def write_file(out: str | os.PathLike[str], text: str, *, force: bool = False) -
     return p
 
 
-def import_json(path: str | os.PathLike[str], nb: Notebook) -> int:
-    """Add the entries of a JSON export to ``nb`` (keeping ids when ``nb`` is empty); returns how many."""
+def read_export(path: str | os.PathLike[str]) -> Any:
+    """The parsed JSON of an export file; one-line ``UnreadableFileError`` for anything that is not JSON."""
     p = Path(path)
     try:
         doc = json.loads(p.read_text(encoding="utf-8"))
-    except (OSError, ValueError) as exc:
-        raise UnreadableFileError(str(p), f"not a JSON notebook export ({exc})") from None
-    if not isinstance(doc, dict) or doc.get("format") != JSON_FORMAT:
-        raise UnreadableFileError(str(p), f'not a wordkin notebook export (no "format": "{JSON_FORMAT}")')
+    except (OSError, ValueError, RecursionError) as exc:
+        why = "nested too deeply" if isinstance(exc, RecursionError) else str(exc)
+        raise UnreadableFileError(str(p), f"not a JSON export ({why})") from None
+    if not isinstance(doc, dict):
+        raise UnreadableFileError(str(p), "not a wordkin export (not a JSON object)")
+    return doc
+
+
+def read_entries(path: str | os.PathLike[str], doc: dict[str, Any]) -> list[Entry]:
+    """The entries of a parsed notebook export ``doc``, checked before anything is written."""
+    p = Path(path)
     if doc.get("version") not in (1, JSON_VERSION):
         raise UnreadableFileError(str(p), f"export version {doc.get('version')} is not {JSON_VERSION}")
     try:
         raw = doc.get("entries", [])
         if doc["version"] == 1:
             raw = [_from_v1(d) for d in raw]
-        entries = [Entry.from_json(d) for d in raw]
-    except (KeyError, TypeError, ValueError) as exc:
+        return [Entry.from_json(d) for d in raw]
+    except (KeyError, TypeError, ValueError, AttributeError) as exc:
         raise UnreadableFileError(str(p), f"an entry is malformed ({exc})") from None
+
+
+def add_entries(nb: Notebook, entries: list[Entry]) -> int:
+    """Add imported entries (keeping their ids when ``nb`` is empty); returns how many."""
     keep_ids = not nb.entries(include_deleted=True)
     for e in entries:
         nb.add(e, keep_position=True, keep_id=keep_ids)
     return len(entries)
+
+
+def import_json(path: str | os.PathLike[str], nb: Notebook) -> int:
+    """Add the entries of a notebook JSON export to ``nb``; returns how many."""
+    doc = read_export(path)
+    if doc.get("format") != JSON_FORMAT:
+        raise UnreadableFileError(str(path), f'not a wordkin notebook export (no "format": "{JSON_FORMAT}")')
+    return add_entries(nb, read_entries(path, doc))
 
 
 def _from_v1(d: dict[str, Any]) -> dict[str, Any]:

@@ -12,6 +12,7 @@ import json
 import os
 import sqlite3
 import time
+import uuid
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
@@ -26,7 +27,7 @@ from .legacy import upgrade_v1
 COLUMNS = "id, position, kind, query, vector_set, result, note, created, updated"
 
 APPLICATION_ID = 0x776B6E62  # "wknb"
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 SQLITE_MAGIC = b"SQLite format 3\x00"
 
 
@@ -81,6 +82,38 @@ MIGRATIONS: dict[int, list[str | Callable[[sqlite3.Connection], None]]] = {
         "CREATE INDEX entries_position ON entries (deleted, position)",
     ],
     2: [_upgrade_entries_v2],
+    # Term lists (console/terms.py): a list, its decisions (appended, never edited) and the last candidates shown.
+    3: [
+        """CREATE TABLE term_lists (
+            id INTEGER PRIMARY KEY AUTOINCREMENT,
+            name TEXT NOT NULL UNIQUE,
+            seeds TEXT NOT NULL,
+            vector_set TEXT NOT NULL DEFAULT '{}',
+            created TEXT NOT NULL,
+            updated TEXT NOT NULL
+        )""",
+        """CREATE TABLE term_decisions (
+            id INTEGER PRIMARY KEY AUTOINCREMENT,
+            list_id INTEGER NOT NULL REFERENCES term_lists (id),
+            word TEXT NOT NULL,
+            state TEXT NOT NULL CHECK (state IN ('kept', 'dropped', 'aside')),
+            note TEXT NOT NULL DEFAULT '',
+            score REAL,
+            support INTEGER,
+            fingerprint TEXT NOT NULL DEFAULT '',
+            decided TEXT NOT NULL,
+            by TEXT NOT NULL DEFAULT '',
+            undone INTEGER NOT NULL DEFAULT 0
+        )""",
+        "CREATE INDEX term_decisions_list ON term_decisions (list_id, undone, id)",
+        """CREATE TABLE term_shown (
+            list_id INTEGER NOT NULL REFERENCES term_lists (id),
+            word TEXT NOT NULL,
+            score REAL NOT NULL,
+            support INTEGER NOT NULL,
+            PRIMARY KEY (list_id, word)
+        )""",
+    ],
 }
 
 
@@ -172,7 +205,7 @@ def _create(path: Path) -> None:
     """Create an empty notebook at ``path`` atomically: built under a temporary name, then hard-linked into place,
     which fails if another process got there first (then theirs is used). A reader never sees a half-made file."""
     path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.new")
+    tmp = path.with_name(f".{path.name}.{os.getpid()}.{uuid.uuid4().hex[:8]}.new")  # unique per thread too
     try:
         con = sqlite3.connect(str(tmp), isolation_level=None)
         try:

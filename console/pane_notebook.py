@@ -1,16 +1,14 @@
 """The notebook pane: saved entries as a list, the selected one in full, its note, delete/undo, move, re-run, export.
 
 Every read and write of the notebook file runs in one worker thread that takes operations from a queue in order
-and ends each with a message (``Loaded`` or ``Failed``); the UI thread never touches SQLite. When the file is locked
+and ends each with a message (``NotebookJobs``); the UI thread never touches SQLite. When the file is locked
 by another writer (a ``wordkin near --save`` in another shell), the pane says "waiting for the notebook…" and the
 console goes on; the operation completes when the lock goes.
 """
 
 from __future__ import annotations
 
-import queue
 from collections.abc import Callable
-from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -30,18 +28,12 @@ from wordkin.index.session import Session
 from .export import FORMATS, render, text_entry, write_file
 from .notebook import Entry, Notebook, now
 from .notebook_diff import diff_text, rerun
+from .notebook_jobs import BUSY_AFTER, NotebookJobs
 from .pane_base import SessionChanged
 from .safe_text import visible
 
 #: An operation on the open notebook; returns the id of the entry to select afterwards (or None) and what to say.
 Operation = Callable[[Notebook], tuple[int | None, str]]
-BUSY_AFTER = 0.25
-
-
-@dataclass(frozen=True)
-class _Job:
-    op: Operation
-    failed_title: str
 
 
 class NotebookPane(Vertical):
@@ -56,24 +48,6 @@ class NotebookPane(Vertical):
         Binding("ctrl+up,left_square_bracket", "move(-1)", "Move up", id="notebook.up"),
         Binding("ctrl+down,right_square_bracket", "move(1)", "Move down", id="notebook.down"),
     ]
-
-    class Loaded(Message):
-        """The notebook was read (after an operation, if any): its entries, which to select, what to say."""
-
-        def __init__(self, entries: list[Entry], where: Path, select: int | None, said: str) -> None:
-            super().__init__()
-            self.entries = entries
-            self.where = where
-            self.select = select
-            self.said = said
-
-    class Failed(Message):
-        """An operation on the notebook failed; nothing was changed."""
-
-        def __init__(self, error: WordkinError, title: str) -> None:
-            super().__init__()
-            self.error = error
-            self.title = title
 
     class Rerun(Message):
         """A saved entry was answered again; ``text`` says what changed."""
@@ -90,8 +64,7 @@ class NotebookPane(Vertical):
         self.undo_stack: list[int] = []
         self.session: Session | None = None
         self.where: Path | None = None
-        self.pending = 0
-        self._jobs: queue.Queue[_Job] = queue.Queue()
+        self.jobs = NotebookJobs(self, path)
 
     def compose(self) -> ComposeResult:
         yield Static("", id="nbk-head", classes="message")
@@ -119,39 +92,28 @@ class NotebookPane(Vertical):
     # -- the notebook, off the UI thread ----------------------------------------------------------------------
 
     def submit(self, op: Operation, failed_title: str) -> None:
-        """Queue ``op``; the worker runs operations one at a time, in order."""
-        self.pending += 1
-        self._jobs.put(_Job(op, failed_title))
-        self.set_timer(BUSY_AFTER, self._say_busy)
+        """Queue ``op``; then read the entries back and show them with the entry ``op`` names selected."""
 
-    def _say_busy(self) -> None:
-        if self.pending:
-            self.query_one("#nbk-head", Static).update(Text("waiting for the notebook…", style="bold yellow"))
+        def run(nb: Notebook) -> tuple[list[Entry], Path, int | None, str]:
+            select, said = op(nb)
+            return nb.entries(), nb.path, select, said
+
+        self.jobs.submit(run, self._loaded, failed_title)
+        self.set_timer(BUSY_AFTER, self._head)
 
     @work(thread=True, exit_on_error=False, group="notebook-io", description="notebook reads and writes")
     def notebook_io(self) -> None:
         worker = get_current_worker()
-        while not worker.is_cancelled:
-            try:
-                job = self._jobs.get(timeout=0.2)
-            except queue.Empty:
-                continue
-            try:
-                with Notebook.open(self.path) as nb:
-                    select, said = job.op(nb)
-                    entries = nb.entries()
-                    where = nb.path
-            except WordkinError as exc:
-                self.post_message(self.Failed(exc, job.failed_title))
-                continue
-            except OSError as exc:
-                what = exc.filename or self.path or "the notebook"
-                self.post_message(self.Failed(WordkinError(f"{what}: {exc.strerror or exc}"), job.failed_title))
-                continue
-            except Exception as exc:  # noqa: BLE001 - the loop must outlive any one operation; said, not swallowed
-                self.post_message(self.Failed(WordkinError(f"{type(exc).__name__}: {exc}"), job.failed_title))
-                continue
-            self.post_message(self.Loaded(entries, where, select, said))
+        self.jobs.serve(lambda: worker.is_cancelled)
+
+    def on_notebook_jobs_done(self, msg: NotebookJobs.Done) -> None:
+        self.jobs.finished()
+        msg.job.then(msg.value)
+
+    def on_notebook_jobs_failed(self, msg: NotebookJobs.Failed) -> None:
+        self.jobs.finished()
+        self._head()
+        self.notify(visible(msg.error.message), title=msg.job.failed_title, severity="error", markup=False, timeout=15)
 
     def save(self, result: Result, session: Session) -> None:
         """Save ``result`` as a new entry (the other panes' save key reaches here through the app)."""
@@ -163,10 +125,10 @@ class NotebookPane(Vertical):
 
         self.submit(op, "not saved")
 
-    def on_notebook_pane_loaded(self, msg: Loaded) -> None:
-        self.pending = max(0, self.pending - 1)
-        self.entries = msg.entries
-        self.where = msg.where
+    def _loaded(self, value: tuple[list[Entry], Path, int | None, str]) -> None:
+        entries, where, select, said = value
+        self.entries = entries
+        self.where = where
         t = self.query_one("#nbk-list", DataTable)
         keep_row = t.cursor_row
         t.clear()
@@ -181,27 +143,22 @@ class NotebookPane(Vertical):
         self._head()
         if self.entries:
             ids = [e.id for e in self.entries]
-            row = ids.index(msg.select) if msg.select in ids else min(len(ids) - 1, max(0, keep_row))
+            row = ids.index(select) if select in ids else min(len(ids) - 1, max(0, keep_row))
             t.move_cursor(row=row)
             self._show(self.entries[row])
         else:
             self.query_one("#nbk-detail", Static).update(
                 Text("no entries yet: press Ctrl+S in a pane to save one", style="italic")
             )
-        if msg.said:
-            self.notify(visible(msg.said), markup=False)
-
-    def on_notebook_pane_failed(self, msg: Failed) -> None:
-        self.pending = max(0, self.pending - 1)
-        self._head()
-        self.notify(visible(msg.error.message), title=msg.title, severity="error", markup=False, timeout=15)
+        if said:
+            self.notify(visible(said), markup=False)
 
     def _head(self) -> None:
         head = Text("notebook ", style="dim")
         head.append(visible(str(self.where or self.path or "")), style="bold")
         n = len(self.entries)
         head.append(f"  ·  {n} entr{'y' if n == 1 else 'ies'}")
-        if self.pending:
+        if self.jobs.pending:
             head.append("  ·  waiting for the notebook…", style="bold yellow")
         self.query_one("#nbk-head", Static).update(head)
 

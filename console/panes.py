@@ -13,6 +13,7 @@ from .pane_arith import ArithmeticPane
 from .pane_neighbours import NeighboursPane
 from .pane_notebook import NotebookPane
 from .pane_similarity import SimilarityPane
+from .pane_terms import TermsPane
 
 
 @dataclass(frozen=True)
@@ -37,5 +38,6 @@ PANES: tuple[PaneSpec, ...] = (
     PaneSpec("arith", "Arithmetic", "f3", lambda nb: ArithmeticPane(), "#ar-expr", ArithmeticPane.BINDINGS),
     PaneSpec("similarity", "Similarity", "f4", lambda nb: SimilarityPane(), "#sm-words", SimilarityPane.BINDINGS),
     PaneSpec("notebook", "Notebook", "f5", lambda nb: NotebookPane(nb), "#nbk-list", NotebookPane.BINDINGS),
+    PaneSpec("terms", "Terms", "f6", lambda nb: TermsPane(nb), "#tm-table", TermsPane.BINDINGS),
 )
 BY_ID = {p.id: p for p in PANES}

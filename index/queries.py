@@ -9,11 +9,13 @@ from __future__ import annotations
 from .kind_arithmetic import Arithmetic, CalcResult
 from .kind_neighbours import NeighbourResult, Neighbours
 from .kind_similarity import Similarity, SimilarityResult
+from .kind_terms import Candidate, TermsResult, TermSuggest
 from .query_base import KINDS, Diff, Query, Result, Table, query_from_json, result_from_json
 
 __all__ = [
     "KINDS",
     "Arithmetic",
+    "Candidate",
     "CalcResult",
     "Diff",
     "NeighbourResult",
@@ -23,6 +25,8 @@ __all__ = [
     "Similarity",
     "SimilarityResult",
     "Table",
+    "TermSuggest",
+    "TermsResult",
     "query_from_json",
     "result_from_json",
 ]

@@ -104,3 +104,40 @@ def test_hostile_words_in_a_real_terminal(tmux, tmp_path):
     tmux.keys("C-q")
     tmux.wait("EXIT=0")
     assert os.path.exists(path)
+
+
+def test_term_list_built_and_exported_at_80x24(tmux, tmp_path):
+    from wordkin.demo_vectors import demo_path
+
+    nb, out = tmp_path / "team.wkn", tmp_path / "lodging.txt"
+    tmux.start("open", str(demo_path()), "--notebook", str(nb))
+    tmux.wait("5,310 words")
+    tmux.keys("F6")
+    tmux.wait("no term lists yet")
+    tmux.keys("n")
+    tmux.wait("then Enter")
+    # Keys injected by tmux within about a second of a pane switch can be lost (seen at random, also in the other
+    # panes; not in Pilot): a known console issue, left for the console issue. Type after a person's pause.
+    time.sleep(1.0)
+    for ch in "lodging: hotel inn":
+        tmux.keys("-l", ch)
+    tmux.keys("Enter")
+    screen = tmux.wait("candidates ·")
+    assert "lodging · 2 terms: hotel, inn" in screen, screen
+    rows = [ln.split()[1] for ln in screen.splitlines() if ln.strip()[:1].isdigit() and len(ln.split()) > 3]
+    first, second = rows[0], rows[1]
+    tmux.keys("k")  # keep the first candidate; the cursor stays on row 1, now the next word
+    tmux.wait(f"3 terms: hotel, inn, {first}")
+    tmux.keys("d")  # drop what moved up to row 1
+    tmux.wait("dropped 1")
+    tmux.keys("x")
+    time.sleep(1.0)  # as above
+    for ch in str(out):
+        tmux.keys("-l", ch)
+    tmux.keys("Enter")
+    tmux.wait("exported 3 terms")
+    text = out.read_text(encoding="utf-8")
+    assert text.startswith("# wordkin term list: lodging\n")
+    assert text.splitlines()[-1] == f"hotel, inn, {first}" and second not in text.splitlines()[-1]
+    tmux.keys("C-q")
+    tmux.wait("EXIT=0")
