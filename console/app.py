@@ -240,6 +240,7 @@ class WordkinApp(App[int]):
 
     def action_help(self) -> None:
         scopes = [("global", self.BINDINGS)] + [(p.label.lower(), p.bindings) for p in PANES]
+        scopes.append(("query panes", QueryPane.BINDINGS))
         self.push_screen(HelpScreen(binding_rows([*scopes, ("help", HelpScreen.BINDINGS)])))
 
     def action_screenshot_svg(self) -> None:

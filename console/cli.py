@@ -33,6 +33,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     p = sub.add_parser("demo", help="console on the bundled demo set")
     p.add_argument("--path", action="store_true", help="print the demo vector file's path and exit")
+    p.add_argument("--fasttext", action="store_true", help="the demo's fastText model (any word gets a vector)")
     p.add_argument("--notebook", metavar="NB")
     _shared(p)
 

@@ -46,6 +46,16 @@ def _near_args(p: argparse.ArgumentParser) -> None:
     )
     p.add_argument("--fold-case", action="store_true", help="look the word up case-insensitively")
     p.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
+    _subwords_arg(p)
+
+
+def _subwords_arg(p: argparse.ArgumentParser) -> None:
+    p.add_argument(
+        "--no-subwords",
+        dest="subwords",
+        action="store_false",
+        help="fastText .bin: a word not in the vocabulary is an error, not built from its character n-grams",
+    )
 
 
 def _check_k_top(a: argparse.Namespace) -> None:
@@ -62,7 +72,7 @@ def _check_k_top(a: argparse.Namespace) -> None:
 
 def _near(a: argparse.Namespace) -> Query:
     _check_k_top(a)
-    return Neighbours(a.word, a.k, a.top, a.hide_forms, a.fold_case, a.exact)
+    return Neighbours(a.word, a.k, a.top, a.hide_forms, a.fold_case, a.exact, a.subwords)
 
 
 def _near_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -77,6 +87,7 @@ def _near_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *_flag(q.hide_forms, "--hide-forms"),
         *_flag(q.fold_case, "--fold-case"),
         *_flag(q.exact, "--exact"),
+        *_flag(not q.subwords, "--no-subwords"),
     ]
 
 
@@ -87,11 +98,12 @@ def _calc_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("--top", type=int, metavar="N", help="only the N most frequent words may be answers")
     p.add_argument("--keep-inputs", action="store_true", help="do not exclude the expression's words")
     p.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
+    _subwords_arg(p)
 
 
 def _calc(a: argparse.Namespace) -> Query:
     _check_k_top(a)
-    return Arithmetic(a.expr, a.k, a.method, a.top, a.keep_inputs, a.exact)
+    return Arithmetic(a.expr, a.k, a.method, a.top, a.keep_inputs, a.exact, a.subwords)
 
 
 def _calc_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -107,20 +119,22 @@ def _calc_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *_opt(q.top, "--top"),
         *_flag(q.keep_inputs, "--keep-inputs"),
         *_flag(q.exact, "--exact"),
+        *_flag(not q.subwords, "--no-subwords"),
     ]
 
 
 def _sim_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("words", nargs="+", metavar="WORD")
+    _subwords_arg(p)
 
 
 def _sim(a: argparse.Namespace) -> Query:
-    return Similarity(tuple(a.words))
+    return Similarity(tuple(a.words), a.subwords)
 
 
 def _sim_argv(q: Query, file: str, scratch: Path) -> list[str]:
     assert isinstance(q, Similarity)
-    return ["sim", file, *q.words]
+    return ["sim", file, *_flag(not q.subwords, "--no-subwords"), *q.words]
 
 
 def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -155,6 +169,7 @@ def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *(["--include", q.include] if q.include else []),
         *(["--exclude", q.exclude] if q.exclude else []),
         *_flag(q.exact, "--exact"),
+        *_flag(not q.subwords, "--no-subwords"),
     ]
 
 

@@ -93,10 +93,12 @@ def info_dict(session: Session) -> dict[str, Any]:
                 "calc_search_k": idx.calc_search_k,
             }
         )
+    sub = vs.meta.subwords
     return {
         "words": vs.n,
         "dims": vs.dims,
         "format": vs.format,
+        "subwords": None if sub is None else {"minn": sub.minn, "maxn": sub.maxn, "bucket": sub.bucket},
         "source": str(vs.source),
         "cache": str(vs.cache_dir) if vs.cache_dir else None,
         "index": index,
@@ -110,6 +112,14 @@ def _print_info(d: dict[str, Any]) -> None:
         f"format   {d['format']}",
         f"words    {d['words']:,}",
         f"dims     {d['dims']}",
+        *(
+            [
+                f"subwords character {d['subwords']['minn']}- to {d['subwords']['maxn']}-grams in "
+                f"{d['subwords']['bucket']:,} buckets: words not in the vocabulary get vectors"
+            ]
+            if d.get("subwords")
+            else []
+        ),
         f"cache    {visible(d['cache'] or 'off')}",
     ]
     if idx["state"] == "ready":
@@ -204,14 +214,15 @@ def cmd_open(args: argparse.Namespace) -> int:
 
 
 def cmd_demo(args: argparse.Namespace) -> int:
-    from wordkin.demo_vectors import demo_path
+    from wordkin.demo_vectors import demo_path, fasttext_path
 
+    path = fasttext_path() if args.fasttext else demo_path()
     if args.path:
-        print(demo_path())
+        print(path)
         return 0
     from .app import run_console
 
-    return run_console(str(demo_path()), args)
+    return run_console(str(path), args)
 
 
 def cmd_terms(args: argparse.Namespace) -> int:

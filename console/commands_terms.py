@@ -48,6 +48,12 @@ def add_parser(sub: Any, shared: Any) -> None:
     v.add_argument("--include", default="", metavar="RE", help="only candidates matching this regular expression")
     v.add_argument("--exclude", default="", metavar="RE", help="no candidates matching this regular expression")
     v.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
+    v.add_argument(
+        "--no-subwords",
+        dest="subwords",
+        action="store_false",
+        help="fastText .bin: list words not in the vocabulary are errors, not built from their n-grams",
+    )
     v.add_argument("--json", action="store_true")
     v.add_argument("--save", action="store_true", help="also save the candidate table as a notebook entry")
     shared(v)
@@ -105,8 +111,7 @@ def _check_words(tl: Any, words: list[str]) -> None:
     if vs.fingerprint != tl.vector_set.get("fingerprint"):
         return
     for w in words:
-        if vs.find(w) is None:
-            vs.row(w)  # UnknownWordError with close matches
+        vs.word_vector(w)  # UnknownWordError with close matches (a fastText model builds it from n-grams)
 
 
 def t_new(args: argparse.Namespace) -> int:
@@ -142,6 +147,7 @@ def t_suggest(args: argparse.Namespace) -> int:
         include=args.include,
         exclude=args.exclude,
         exact=args.exact,
+        subwords=args.subwords,
     )
     res = q.run(session)
     assert isinstance(res, TermsResult)

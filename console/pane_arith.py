@@ -59,10 +59,12 @@ class ArithmeticPane(QueryPane):
             int_option(self.query_one("#ar-top", Input), "top", None),
             self.query_one("#ar-keep", Checkbox).value,
             self.query_one("#ar-exact", Checkbox).value,
+            self.subwords,
         )
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Arithmetic)
+        self.subwords = query.subwords
         values = {
             "#ar-expr": query.expression,
             "#ar-k": str(query.k),
@@ -107,7 +109,10 @@ class ArithmeticPane(QueryPane):
             pad = cell_len(visible(text[: exc.column])) + 3
             return Text(" " * pad + "^ " + visible(exc.expected), style="bold red", no_wrap=True)
         if self.session is not None:
-            missing = [w for w in words_of(tree) if self.session.vectors.find(self.word(w)) is None]
+            vs = self.session.vectors
+            missing = [w for w in words_of(tree) if vs.find(self.word(w)) is None]
+            if missing and vs.subwords is not None and self.subwords:
+                return Text("≈ built from character n-grams: " + ", ".join(visible(w) for w in missing), style="yellow")
             if missing:
                 t = Text("not in the vocabulary: ", style="yellow")
                 for i, w in enumerate(missing):
@@ -135,6 +140,8 @@ class ArithmeticPane(QueryPane):
         opts = ", ".join(result.query.options())
         how = "index" if result.mode == "ann" else "exact"
         t = Text.assemble((visible(result.expression), "bold"), (f"  ·  {opts}  ·  {how}", "dim"))
+        for sw in result.subwords:
+            t.append("\n" + visible(sw.note()), style="yellow")
         if result.excluded:
             t.append("\nexcluded: ", style="dim")
             t.append(", ".join(visible(w) for w in result.excluded))

@@ -13,6 +13,7 @@ from typing import ClassVar
 
 from rich.text import Text
 from textual import work
+from textual.binding import Binding
 from textual.containers import Vertical
 from textual.message import Message
 
@@ -52,6 +53,10 @@ class QueryPane(Vertical):
 
     kind: ClassVar[type[Query]]
 
+    BINDINGS = [
+        Binding("ctrl+g", "toggle_subwords", "Subwords on/off", id="query.subwords"),
+    ]
+
     class Answered(Message):
         """A query was answered (posted by the pane's worker)."""
 
@@ -81,6 +86,9 @@ class QueryPane(Vertical):
         self.vocab: VocabView | None = None
         self.result: Result | None = None
         self.asked: Query | None = None
+        #: fastText models: build words not in the vocabulary from their character n-grams (every query kind's
+        #: ``subwords`` option; Ctrl+G turns it off and on).
+        self.subwords = True
 
     # -- to be provided by each pane -------------------------------------------------------------------------
 
@@ -152,6 +160,13 @@ class QueryPane(Vertical):
             return
         self.result = None  # nothing stale stays on screen, and nothing is left to save
         self.show_failure(msg.error)
+
+    def action_toggle_subwords(self) -> None:
+        self.subwords = not self.subwords
+        state = "on" if self.subwords else "off: words not in the vocabulary are errors"
+        self.notify(f"subwords {state}", markup=False)
+        if self.asked is not None:
+            self.submit()
 
     def action_save(self) -> None:
         if self.result is not None and self.session is not None:

@@ -78,6 +78,7 @@ class NeighboursPane(QueryPane):
             self.query_one("#nb-hide", Checkbox).value,
             self.query_one("#nb-fold", Checkbox).value,
             self.query_one("#nb-exact", Checkbox).value,
+            self.subwords,
         )
 
     def load_query(self, query: Query) -> None:
@@ -87,6 +88,7 @@ class NeighboursPane(QueryPane):
         self.ask(query)
 
     def _set_widgets(self, q: Neighbours) -> None:
+        self.subwords = q.subwords
         values = {"#nb-word": visible(q.word), "#nb-k": str(q.k), "#nb-top": "" if q.top is None else str(q.top)}
         for sel, value in values.items():
             box = self.query_one(sel, Input)
@@ -145,7 +147,15 @@ class NeighboursPane(QueryPane):
             return
         i = int(str(event.row_key.value))
         if i < len(res.rows):
-            q = Neighbours(res.rows[i].word, res.query.k, res.query.top, res.query.hide_forms, False, res.query.exact)
+            q = Neighbours(
+                res.rows[i].word,
+                res.query.k,
+                res.query.top,
+                res.query.hide_forms,
+                False,
+                res.query.exact,
+                res.query.subwords,
+            )
             self.load_query(q)
 
     # -- showing ---------------------------------------------------------------------------------------
@@ -158,11 +168,14 @@ class NeighboursPane(QueryPane):
         how = "index" if result.mode == "ann" else "exact"
         head = Text.assemble(
             ("neighbours of ", ""),
+            ("≈ " if result.subword else "", "bold yellow"),
             word_text(result.word, "bold"),
             (f"  ·  {opts}  ·  {how}  ·  {result.elapsed_ms:.1f} ms", "dim"),
         )
+        if result.subword is not None:
+            head.append("\n" + visible(result.subword.note()), style="yellow")
         self.show_message(head)
-        if self.session is not None and result.rows:
+        if self.session is not None and result.rows and result.subword is None:
             self.mark_mutual(result, self.session)
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="mutual", description="mutual neighbours")

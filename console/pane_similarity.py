@@ -56,10 +56,11 @@ class SimilarityPane(QueryPane):
         words = tuple(self.word(w) for w in split_words(self.query_one("#sm-words", Input).value))
         if not words:
             raise UsageError("type two or more words")
-        return Similarity(words)
+        return Similarity(words, self.subwords)
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Similarity)
+        self.subwords = query.subwords
         self.query_one("#sm-words", Input).value = " ".join(
             f'"{visible_word(w)}"' if (" " in w or "," in w) else visible_word(w) for w in query.words
         )
@@ -90,6 +91,8 @@ class SimilarityPane(QueryPane):
                 cells.append(Text(f"{v:6.3f}", style=style, justify="right"))
             table.add_row(*cells, key=f"r{i}")
         t = Text(f"{len(res.words)} words")
+        for sw in res.subwords:
+            t.append("\n" + visible_word(sw.note()), style="yellow")
         if res.odd_one_out is not None:
             i = res.words.index(res.odd_one_out)
             t.append("  ·  odd one out: ◆ ")

@@ -197,11 +197,13 @@ class TermsPane(QueryPane):
             include=self.query_one("#tm-include", Input).value,
             exclude=self.query_one("#tm-exclude", Input).value,
             exact=self.query_one("#tm-exact", Checkbox).value,
+            subwords=self.subwords,
         )
 
     def load_query(self, query: Query) -> None:
         """Show a saved suggestion: its list's state and every option (decisions need the list in the notebook)."""
         assert isinstance(query, TermSuggest)
+        self.subwords = query.subwords
         values = {
             "#tm-k": str(query.k),
             "#tm-gamma": f"{query.gamma:g}",
@@ -271,7 +273,7 @@ class TermsPane(QueryPane):
         if self.session is not None:
             try:
                 for w in seeds:
-                    self.session.vectors.row(w)
+                    self.session.vectors.word_vector(w, subwords=self.subwords)
             except WordkinError as exc:
                 self.show_failure(exc)
                 return

@@ -11,6 +11,11 @@ def demo_path() -> Path:
     return HERE / "brackwater.vec.gz"
 
 
+def fasttext_path() -> Path:
+    """A fastText model of the same corpus: words it never saw get vectors from their character n-grams."""
+    return HERE / "brackwater-ft.bin"
+
+
 def analogies_path() -> Path:
     return HERE / "brackwater-analogies.txt"
 

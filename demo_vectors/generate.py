@@ -7,6 +7,9 @@ writes:
 
 - ``brackwater.vec.gz``: the vectors, word2vec text format, gzip-compressed;
 - ``brackwater-analogies.txt``: analogy questions in the standard ``: section`` format, one family a section;
+- ``brackwater-ft.bin`` (with ``--fasttext``): a fastText model of the same corpus (gensim's FastText, character
+  3- to 6-grams in 10,000 buckets), in the fastText ``.bin`` format, so that words the corpus never had
+  (``harbourfront``, misspellings) get vectors from their character n-grams;
 - ``brackwater-pairs.tsv`` is hand-written (scores by us) and is not touched here.
 
 Relation families: town -> region, country -> capital, country -> nationality, singular -> plural, verb -> past
@@ -356,6 +359,7 @@ def main() -> None:
     ap.add_argument("--out", type=Path, default=HERE)
     ap.add_argument("--corpus", type=Path, help="also write the corpus here")
     ap.add_argument("--epochs", type=int, default=12)
+    ap.add_argument("--fasttext", action="store_true", help="also train and write brackwater-ft.bin")
     args = ap.parse_args()
     from gensim.models import Word2Vec
 
@@ -386,6 +390,31 @@ def main() -> None:
     (args.out / "brackwater.vec.gz").write_bytes(gzip.compress(data, compresslevel=9, mtime=0))
     (args.out / "brackwater-analogies.txt").write_text("\n".join(analogies(random.Random(SEED + 1), world)) + "\n")
     print(f"{len(model.wv)} words, {sum(len(s) for s in sents)} tokens")
+    if args.fasttext:
+        write_fasttext(sents, args.out / "brackwater-ft.bin", args.epochs)
+
+
+def write_fasttext(sents: list[list[str]], out: Path, epochs: int) -> None:
+    """The same corpus through gensim's FastText, saved in fastText's own .bin format."""
+    from gensim.models.fasttext import FastText, save_facebook_model
+
+    model = FastText(
+        sents,
+        vector_size=32,
+        window=6,
+        min_count=3,
+        sg=0,
+        negative=10,
+        sample=1e-3,
+        epochs=epochs,
+        workers=1,
+        seed=SEED % (2**31),
+        min_n=3,
+        max_n=6,
+        bucket=10_000,
+    )
+    save_facebook_model(model, str(out))
+    print(f"{out.name}: {len(model.wv)} words, {out.stat().st_size:,} bytes")
 
 
 if __name__ == "__main__":

@@ -9,12 +9,14 @@ own words are excluded from the answers unless ``keep_inputs``. The query itself
 
 from __future__ import annotations
 
+from collections.abc import Callable
+
 import numpy as np
 from numpy.typing import NDArray
 
 from .ann import AnnIndex
 from .expr import Analogy, Centroid, Node, Scale, Sum, Word
-from .search import best_of, top_for_vector, unit_query, use_ann
+from .search import best_of, top_for_vector, use_ann
 from .store import VectorSet
 
 EPSILON = 0.001
@@ -22,19 +24,20 @@ EPSILON = 0.001
 MUL_POOL = 200
 
 
-def vector_of(vs: VectorSet, node: Node) -> NDArray[np.float32]:
-    """The 3CosAdd vector of an expression tree (not normalised). Unknown words raise ``UnknownWordError``."""
+def vector_of(node: Node, lookup: Callable[[str], NDArray[np.float32]], dims: int) -> NDArray[np.float32]:
+    """The 3CosAdd vector of an expression tree (not normalised); ``lookup`` gives each word's unit vector."""
     if isinstance(node, Word):
-        return np.asarray(vs.unit[vs.row(node.text)], dtype=np.float32)
+        return lookup(node.text)
     if isinstance(node, Scale):
-        return np.float32(node.weight) * vector_of(vs, node.node)
+        return np.float32(node.weight) * vector_of(node.node, lookup, dims)
     if isinstance(node, Centroid):
-        mean: NDArray[np.float32] = np.mean([vector_of(vs, i) for i in node.items], axis=0).astype(np.float32)
+        items = [vector_of(i, lookup, dims) for i in node.items]
+        mean: NDArray[np.float32] = np.mean(items, axis=0).astype(np.float32)
         return mean
     assert isinstance(node, Sum)
-    out = np.zeros(vs.dims, dtype=np.float32)
+    out = np.zeros(dims, dtype=np.float32)
     for sign, sub in node.terms:
-        out += sign * vector_of(vs, sub)
+        out += sign * vector_of(sub, lookup, dims)
     return out
 
 
@@ -46,28 +49,28 @@ def as_expression(tree: Node | Analogy) -> Node:
 
 def mul_scores(
     vs: VectorSet,
-    pos: list[int],
-    neg: list[int],
+    pos: list[NDArray[np.float32]],
+    neg: list[NDArray[np.float32]],
     rows: NDArray[np.int64] | None = None,
     *,
     epsilon: float = EPSILON,
 ) -> NDArray[np.float32]:
-    """3CosMul scores of ``rows`` (all rows if None) for positive and negative rows."""
+    """3CosMul scores of ``rows`` (all rows if None) for positive and negative unit vectors."""
     m = vs.unit if rows is None else vs.unit[rows]
     num = np.ones(m.shape[0], dtype=np.float32)
     for p in pos:
-        num *= (1 + m @ vs.unit[p]) / 2
+        num *= (1 + m @ p) / 2
     den = np.ones(m.shape[0], dtype=np.float32)
     for n in neg:
-        den *= (1 + m @ vs.unit[n]) / 2
+        den *= (1 + m @ n) / 2
     return num / (den + np.float32(epsilon)) if neg else num
 
 
 def mul_top(
     vs: VectorSet,
-    expr: Node,
-    pos: list[int],
-    neg: list[int],
+    q: NDArray[np.float32],
+    pos: list[NDArray[np.float32]],
+    neg: list[NDArray[np.float32]],
     k: int,
     exclude: list[int],
     top: int | None,
@@ -77,7 +80,6 @@ def mul_top(
 ) -> tuple[NDArray[np.int64], NDArray[np.float32], str]:
     if use_ann(vs, ann, mode):
         assert ann is not None
-        q = unit_query(vector_of(vs, expr))
         cands, _, _ = top_for_vector(vs, q, max(MUL_POOL, 4 * k), exclude, ann=ann, mode="ann", top=top)
         if len(cands) >= k:
             s = mul_scores(vs, pos, neg, cands, epsilon=epsilon)

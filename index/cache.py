@@ -53,6 +53,15 @@ class IndexMeta:
 
 
 @dataclass(frozen=True)
+class SubwordMeta:
+    """A fastText model's character n-grams: ``ngrams.npy`` holds ``bucket`` rows (raw float32)."""
+
+    minn: int
+    maxn: int
+    bucket: int
+
+
+@dataclass(frozen=True)
 class CacheMeta:
     """The typed content of ``meta.json``; this module is its only reader and writer."""
 
@@ -68,6 +77,7 @@ class CacheMeta:
     warnings: tuple[str, ...] = ()
     parse_seconds: float = 0.0
     index: IndexMeta = field(default_factory=IndexMeta)
+    subwords: SubwordMeta | None = None
     cache_format: int = CACHE_FORMAT
     tool_version: str = __version__
 
@@ -92,7 +102,9 @@ class CacheMeta:
             **{k: v for k, v in idx.items() if k in known and k != "file_bytes"},
             file_bytes=tuple(int(x) for x in (fb if isinstance(fb, list) else [fb])),
         )
-        known = {f.name for f in dataclasses.fields(cls)} - {"index", "warnings"}
+        sw = d.get("subwords")
+        subwords = SubwordMeta(int(sw["minn"]), int(sw["maxn"]), int(sw["bucket"])) if isinstance(sw, dict) else None
+        known = {f.name for f in dataclasses.fields(cls)} - {"index", "warnings", "subwords"}
         missing = {"source", "fingerprint", "format", "words", "dims"} - set(d)
         if missing:
             raise KeyError(", ".join(sorted(missing)))
@@ -100,6 +112,7 @@ class CacheMeta:
             **{k: v for k, v in d.items() if k in known},
             warnings=tuple(str(w) for w in d.get("warnings", [])),
             index=index,
+            subwords=subwords,
         )
         for name, typ in (("words", int), ("dims", int), ("source_size", int), ("source_mtime_ns", int)):
             if not isinstance(getattr(meta, name), typ):
@@ -267,6 +280,9 @@ def validate(
             "words.txt": int(meta.words_bytes),
             "zero_rows.npy": None,
         }
+        if meta.subwords is not None:
+            expect["ngrams.npy"] = NPY_HEADER_LEN + 4 * meta.subwords.bucket * d
+            expect["ngrams_seen.npy"] = None
         for name, want in expect.items():
             p = dir_ / name
             if not p.is_file():

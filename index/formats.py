@@ -17,7 +17,7 @@ from pathlib import Path
 
 import numpy as np
 
-from . import read_binary, read_other, read_text
+from . import read_binary, read_fasttext, read_other, read_text
 from .errors import PickleRefusedError, UnreadableFileError
 from .progress import ProgressFn
 from .reader_types import Batch, Compression, Detected, open_stream, read_stream_errors
@@ -28,7 +28,6 @@ SNIFF_LIMIT = 1 << 26
 #: More dimensions than this is not a word-vector file (published sets have 25 to 1,000).
 MAX_DIMS = 65_536
 PICKLE_SUFFIXES = {".model", ".kv", ".pkl", ".pickle", ".p"}
-FASTTEXT_BIN_MAGIC = (793712314).to_bytes(4, "little")
 
 
 def _compression_of(head: bytes) -> Compression:
@@ -105,8 +104,9 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
                 "so it is refused unless you pass --trust-pickle (or convert it to word2vec format)",
             )
         return Detected(p, "pickle", None, 0, None)
-    if head.startswith(FASTTEXT_BIN_MAGIC):
-        raise UnreadableFileError(str(p), "is a fastText .bin model; open its .vec file (word2vec text) instead")
+    if read_fasttext.looks_like_fasttext(_head(p, 64)):
+        h = read_fasttext.read_header(p)
+        return Detected(p, "fasttext-bin", None, h.dims, h.nwords, subwords=(h.minn, h.maxn, h.bucket))
     if head.startswith(b"\x93NUMPY"):
         words = _words_file_for(p) if p.name.endswith(".npy") else None
         if words is None:
@@ -174,8 +174,20 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
     )
 
 
-def read_batches(det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536) -> Iterator[Batch]:
-    """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line."""
+def _head(p: Path, n: int) -> bytes:
+    with open(p, "rb") as f:
+        return f.read(n)
+
+
+def read_batches(
+    det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536, workdir: Path | None = None
+) -> Iterator[Batch]:
+    """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line.
+    ``workdir`` is the cache being built: a fastText model writes its n-gram matrix there."""
+    if det.kind == "fasttext-bin":
+        if workdir is None:
+            raise ValueError("a fastText model is read into a cache directory")
+        return read_fasttext.read(det, progress, workdir)
     if det.kind in ("word2vec-text", "glove-text"):
         return read_text.read(det, progress)
     if det.kind == "word2vec-binary":

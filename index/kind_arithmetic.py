@@ -15,7 +15,7 @@ from .analogy import EPSILON, as_expression, mul_scores, mul_top, vector_of
 from .errors import UsageError
 from .expr import Analogy, parse, quote_word, signed_words, to_text, words_of
 from .query_base import Diff, Query, Result, Table, option_field, rank_diff, register
-from .results import Neighbour, ranked, rows_from_json, rows_to_json
+from .results import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json
 from .search import check_k, check_top, rank_in, rank_of, top_for_vector, unit_query
 from .session import Session
 
@@ -36,6 +36,7 @@ class CalcResult(Result):
     target_rank: int | None = None  # 1-based rank of ``target`` among all candidates, None if excluded
     target_similarity: float | None = None
     elapsed_ms: float = 0.0
+    subwords: tuple[SubwordWord, ...] = ()  # input words a fastText model built from their n-grams
 
     @property
     def score_label(self) -> str:
@@ -49,8 +50,11 @@ class CalcResult(Result):
             "mode": self.mode,
             "excluded": list(self.excluded),
             "options": self.query.to_json(),
+            "query_vector": "subwords" if self.subwords else "vocabulary",
             "results": rows_to_json(self.rows),
         }
+        if self.subwords:
+            out["subwords"] = [s.to_json() for s in self.subwords]
         if self.target is not None:
             out["target"] = {"word": self.target, "rank": self.target_rank, "similarity": self.target_similarity}
         return out
@@ -69,6 +73,7 @@ class CalcResult(Result):
             t.get("word"),
             t.get("rank"),
             t.get("similarity"),
+            subwords=tuple(SubwordWord.from_json(x) for x in d.get("subwords", [])),
         )
 
     def table(self) -> Table:
@@ -79,7 +84,7 @@ class CalcResult(Result):
         )
 
     def notes(self) -> list[str]:
-        out = []
+        out = [s.note() for s in self.subwords]
         if self.excluded:
             out.append("excluded: " + ", ".join(self.excluded))
         if self.target is not None:
@@ -110,6 +115,7 @@ class Arithmetic(Query):
     top: int | None = option_field((None, 60), default=None)
     keep_inputs: bool = option_field((False, True), default=False)
     exact: bool = option_field((False, True), default=False)
+    subwords: bool = option_field((True, False), default=True)
 
     def title(self) -> str:
         return self.expression
@@ -129,6 +135,8 @@ class Arithmetic(Query):
             out.append("keep inputs")
         if self.exact:
             out.append("exact search")
+        if not self.subwords:
+            out.append("no subwords")
         return out
 
     def run(self, session: Session, *, epsilon: float = EPSILON) -> CalcResult:
@@ -141,19 +149,22 @@ class Arithmetic(Query):
         k = check_k(self.k, vs)
         top = check_top(self.top, vs)
         words = words_of(tree)
-        rows = [vs.row(w) for w in words]  # unknown words fail here, with close matches
+        # Unknown words fail here with close matches, or (fastText models) are built from their n-grams.
+        found_words = {w: vs.word_vector(w, subwords=self.subwords) for w in words}
+        rows = [wv.row for wv in found_words.values() if wv.row is not None]
         exclude = [] if self.keep_inputs else rows
         target = tree.d.text if isinstance(tree, Analogy) and tree.d is not None else None
+        # The expected answer ranks among vocabulary words, so it must be one (UnknownWordError otherwise).
         target_row = vs.row(target) if target is not None else None
         expr = as_expression(tree)
         ann = session.ann(self.exact)
         # Combined vectors use their own measured search_k, or an exact scan where the index is not good enough.
         ann = ann.for_expressions() if ann is not None else None
         mode = "exact" if self.exact else "auto"
+        q = unit_query(vector_of(expr, lambda w: found_words[w].vector, vs.dims))
         t_rank = None
         t_sim = None
         if self.method == "add":
-            q = unit_query(vector_of(vs, expr))
             top_rows, scores, used = top_for_vector(vs, q, k, exclude, ann=ann, mode=mode, top=top)
             if target_row is not None:
                 t_rank = rank_of(vs, q, target_row, exclude, top)
@@ -162,15 +173,18 @@ class Arithmetic(Query):
             sw = signed_words(expr)
             if sw is None:
                 raise UsageError("3CosMul takes unweighted + and - words only (no weights, groups or centroids)")
-            pos = [vs.row(w) for w in sw[0]]
-            neg = [vs.row(w) for w in sw[1]]
-            top_rows, scores, used = mul_top(vs, expr, pos, neg, k, exclude, top, ann, mode, epsilon)
+            pos = [found_words[w].vector for w in sw[0]]
+            neg = [found_words[w].vector for w in sw[1]]
+            top_rows, scores, used = mul_top(vs, q, pos, neg, k, exclude, top, ann, mode, epsilon)
             if target_row is not None:
                 all_scores = mul_scores(vs, pos, neg, epsilon=epsilon)
                 t_sim = float(all_scores[target_row])
                 t_rank = rank_in(vs, all_scores, target_row, exclude, top)
         found = tuple(
             Neighbour(i + 1, vs.words[int(r)], float(s)) for i, (r, s) in enumerate(zip(top_rows, scores, strict=True))
+        )
+        from_subwords = tuple(
+            SubwordWord(w, wv.known, wv.ngrams, wv.close) for w, wv in found_words.items() if wv.source == "subwords"
         )
         return CalcResult(
             self,
@@ -183,4 +197,5 @@ class Arithmetic(Query):
             t_rank,
             t_sim,
             (time.perf_counter() - t0) * 1000,
+            from_subwords,
         )

@@ -15,7 +15,7 @@ import numpy as np
 
 from .forms import is_form_of
 from .query_base import Diff, Query, Result, Table, option_field, rank_diff, register
-from .results import Neighbour, ranked, rows_from_json, rows_to_json
+from .results import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json
 from .search import check_k, check_top, top_for_vector
 from .session import Session
 
@@ -30,21 +30,35 @@ class NeighbourResult(Result):
     rows: tuple[Neighbour, ...]
     k: int
     elapsed_ms: float = 0.0
+    #: Set when the word is not in the vocabulary and a fastText model built it from its character n-grams.
+    subword: SubwordWord | None = None
 
     def to_json(self) -> dict[str, Any]:
-        return {
+        out: dict[str, Any] = {
             "query": self.query.word,
             "word": self.word,
             "k": self.k,
             "mode": self.mode,
             "options": self.query.to_json(),
+            "query_vector": "subwords" if self.subword else "vocabulary",
             "results": rows_to_json(self.rows),
         }
+        if self.subword is not None:
+            out["subwords"] = self.subword.to_json()
+        return out
 
     @classmethod
     def from_json(cls, d: dict[str, Any], query: Query) -> NeighbourResult:
         assert isinstance(query, Neighbours)
-        return cls(query, str(d["word"]), str(d["mode"]), rows_from_json(d["results"]), int(d["k"]))
+        sw = d.get("subwords")
+        return cls(
+            query,
+            str(d["word"]),
+            str(d["mode"]),
+            rows_from_json(d["results"]),
+            int(d["k"]),
+            subword=SubwordWord.from_json(sw) if isinstance(sw, dict) else None,
+        )
 
     def table(self) -> Table:
         return Table(
@@ -54,8 +68,8 @@ class NeighbourResult(Result):
         )
 
     def notes(self) -> list[str]:
-        out = []
-        if self.word != self.query.word:
+        out = [self.subword.note()] if self.subword is not None else []
+        if self.word != self.query.word and self.subword is None:
             out.append(f"answered as {self.word!r} (fold case)")
         if not self.rows:
             out.append("no neighbours: the word's vector is all zeros")
@@ -80,6 +94,7 @@ class Neighbours(Query):
     hide_forms: bool = option_field((False, True), default=False)
     fold_case: bool = option_field((False, True), default=False)
     exact: bool = option_field((False, True), default=False)
+    subwords: bool = option_field((True, False), default=True)
 
     def title(self) -> str:
         return f"neighbours of {self.word}"
@@ -96,6 +111,8 @@ class Neighbours(Query):
             out.append("fold case")
         if self.exact:
             out.append("exact search")
+        if not self.subwords:
+            out.append("no subwords")
         return out
 
     def run(self, session: Session) -> NeighbourResult:
@@ -104,18 +121,22 @@ class Neighbours(Query):
         k = check_k(self.k, vs)
         top = check_top(self.top, vs)
         r = vs.find_folded(self.word) if self.fold_case else vs.find(self.word)
+        subword = None
         if r is None:
-            r = vs.row(self.word)  # raises UnknownWordError with close matches
-        word = vs.words[r]
-        if vs.is_zero(r):
-            return NeighbourResult(self, word, "exact", (), k, (time.perf_counter() - t0) * 1000)
-        q = np.asarray(vs.unit[r], dtype=np.float32)
+            # Not in the vocabulary: built from its n-grams (fastText), or UnknownWordError with close matches.
+            wv = vs.word_vector(self.word, subwords=self.subwords)
+            q, word, exclude = wv.vector, self.word, []
+            subword = SubwordWord(wv.word, wv.known, wv.ngrams, wv.close)
+        elif vs.is_zero(r):
+            return NeighbourResult(self, vs.words[r], "exact", (), k, (time.perf_counter() - t0) * 1000)
+        else:
+            q, word, exclude = np.asarray(vs.unit[r], dtype=np.float32), vs.words[r], [r]
         ann = session.ann(self.exact)
         mode = "exact" if self.exact else "auto"
-        limit = (top or vs.n) - 1
+        limit = (top or vs.n) - len(exclude)
         want = k + (20 if self.hide_forms else 0)
         while True:
-            rows, scores, used = top_for_vector(vs, q, min(want, max(1, limit)), [r], ann=ann, mode=mode, top=top)
+            rows, scores, used = top_for_vector(vs, q, min(want, max(1, limit)), exclude, ann=ann, mode=mode, top=top)
             pairs = [(int(i), float(s)) for i, s in zip(rows, scores, strict=True)]
             if self.hide_forms:
                 pairs = [(i, s) for i, s in pairs if not is_form_of(vs.words[i], [word])]
@@ -123,4 +144,4 @@ class Neighbours(Query):
                 break
             want = min(limit, want * 4)
         found = tuple(Neighbour(n + 1, vs.words[i], s) for n, (i, s) in enumerate(pairs[:k]))
-        return NeighbourResult(self, word, used, found, k, (time.perf_counter() - t0) * 1000)
+        return NeighbourResult(self, word, used, found, k, (time.perf_counter() - t0) * 1000, subword)

@@ -10,7 +10,8 @@ from typing import Any, ClassVar
 import numpy as np
 
 from .errors import UsageError
-from .query_base import Diff, Query, Result, Table, register
+from .query_base import Diff, Query, Result, Table, option_field, register
+from .results import SubwordWord
 from .session import Session
 
 MAX_WORDS = 500
@@ -28,6 +29,7 @@ class SimilarityResult(Result):
     pair_ranks: tuple[tuple[int | None, ...], ...] = ()
     elapsed_ms: float = 0.0
     mode: str = "exact"
+    subwords: tuple[SubwordWord, ...] = ()  # words a fastText model built from their n-grams
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -37,6 +39,8 @@ class SimilarityResult(Result):
             "odd_scores": list(self.odd_scores),
             "pair_ranks": [list(r) for r in self.pair_ranks],
             "options": self.query.to_json(),
+            "query_vector": "subwords" if self.subwords else "vocabulary",
+            "subwords": [s.to_json() for s in self.subwords],
         }
 
     @classmethod
@@ -49,6 +53,7 @@ class SimilarityResult(Result):
             d.get("odd_one_out"),
             tuple(float(x) for x in d.get("odd_scores", [])),
             tuple(tuple(None if x is None else int(x) for x in r) for r in d.get("pair_ranks", [])),
+            subwords=tuple(SubwordWord.from_json(x) for x in d.get("subwords", [])),
         )
 
     def table(self) -> Table:
@@ -70,10 +75,11 @@ class SimilarityResult(Result):
         return out
 
     def notes(self) -> list[str]:
+        out = [s.note() for s in self.subwords]
         if self.odd_one_out is None:
-            return []
+            return out
         i = self.words.index(self.odd_one_out)
-        return [f"odd one out: {self.odd_one_out} (cosine {self.odd_scores[i]:.3f} to the mean of the others)"]
+        return out + [f"odd one out: {self.odd_one_out} (cosine {self.odd_scores[i]:.3f} to the mean of the others)"]
 
     def records(self) -> list[dict[str, Any]]:
         out: list[dict[str, Any]] = []
@@ -107,9 +113,13 @@ class Similarity(Query):
     result_class: ClassVar[type[Any]] = SimilarityResult
 
     words: tuple[str, ...]
+    subwords: bool = option_field((True, False), default=True)
 
     def title(self) -> str:
         return "similarity of " + ", ".join(self.words)
+
+    def options(self) -> list[str]:
+        return [] if self.subwords else ["no subwords"]
 
     @classmethod
     def example(cls, words: list[str]) -> Similarity:
@@ -129,8 +139,9 @@ class Similarity(Query):
             if w in seen:
                 raise UsageError(f"{w!r} is listed twice")
             seen.add(w)
-        rows = [vs.row(w) for w in words]
-        m = np.asarray(vs.unit[rows], dtype=np.float32)
+        found = [vs.word_vector(w, subwords=self.subwords) for w in words]  # unknown: n-grams or close matches
+        rows: list[int | None] = [wv.row for wv in found]
+        m = np.stack([wv.vector for wv in found]).astype(np.float32)
         mat = m @ m.T
         odd: str | None = None
         odd_scores: list[float] = []
@@ -148,10 +159,12 @@ class Similarity(Query):
                 scores[vs.zero_rows] = -np.inf
             for i, ri in enumerate(rows):
                 col = scores[:, i].copy()
-                col[ri] = -np.inf
+                if ri is not None:
+                    col[ri] = -np.inf
                 row_ranks: list[int | None] = []
                 for j, rj in enumerate(rows):
-                    if i == j or vs.is_zero(rj) or vs.is_zero(ri):
+                    # A word built from n-grams has no row: nothing ranks it among a word's neighbours.
+                    if i == j or rj is None or vs.is_zero(rj) or (ri is not None and vs.is_zero(ri)):
                         row_ranks.append(None)
                         continue
                     t = col[rj]
@@ -165,4 +178,5 @@ class Similarity(Query):
             tuple(odd_scores),
             tuple(tuple(r) for r in pair_ranks),
             (time.perf_counter() - t0) * 1000,
+            subwords=tuple(SubwordWord(wv.word, wv.known, wv.ngrams, wv.close) for wv in found if wv.row is None),
         )

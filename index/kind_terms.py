@@ -27,9 +27,10 @@ from numpy.typing import NDArray
 from .errors import UsageError
 from .forms import is_form_of
 from .query_base import Diff, Query, Result, Table, option_field, rank_diff, register
+from .results import SubwordWord
 from .search import check_k, check_top, top_for_vector, unit_query
 from .session import Session
-from .store import VectorSet
+from .store import WordVector
 
 DEFAULT_GAMMA = 0.15
 DEFAULT_SUPPORT_K = 25
@@ -53,6 +54,7 @@ class TermsResult(Result):
     rows: tuple[Candidate, ...]
     members: int
     elapsed_ms: float = 0.0
+    subwords: tuple[SubwordWord, ...] = ()  # list words a fastText model built from their n-grams
 
     def to_json(self) -> dict[str, Any]:
         q = self.query
@@ -65,6 +67,8 @@ class TermsResult(Result):
             "mode": self.mode,
             "members": self.members,
             "options": q.to_json(),
+            "query_vector": "subwords" if self.subwords else "vocabulary",
+            "subwords": [s.to_json() for s in self.subwords],
             "candidates": [{"rank": c.rank, "word": c.word, "score": c.score, "support": c.support} for c in self.rows],
         }
 
@@ -74,7 +78,8 @@ class TermsResult(Result):
         rows = tuple(
             Candidate(int(c["rank"]), str(c["word"]), float(c["score"]), int(c["support"])) for c in d["candidates"]
         )
-        return cls(query, str(d["mode"]), rows, int(d.get("members", len(query.members))))
+        subwords = tuple(SubwordWord.from_json(x) for x in d.get("subwords", []))
+        return cls(query, str(d["mode"]), rows, int(d.get("members", len(query.members))), subwords=subwords)
 
     def table(self) -> Table:
         return Table(
@@ -93,6 +98,7 @@ class TermsResult(Result):
             f"support: how many of the list's {self.members} words have the candidate among their {q.support_k}"
             " nearest neighbours",
         ]
+        out.extend(s.note() for s in self.subwords)
         if q.kept:
             out.append("kept: " + ", ".join(q.kept))
         if q.dropped:
@@ -126,6 +132,7 @@ class TermSuggest(Query):
     include: str = option_field(("", "^[a-z]"), default="")
     exclude: str = option_field(("", "s$"), default="")
     exact: bool = option_field((False, True), default=False)
+    subwords: bool = option_field((True, False), default=True)
 
     @property
     def members(self) -> tuple[str, ...]:
@@ -152,6 +159,8 @@ class TermSuggest(Query):
             out.append(f"exclude /{self.exclude}/")
         if self.exact:
             out.append("exact search")
+        if not self.subwords:
+            out.append("no subwords")
         return out
 
     def run(self, session: Session) -> TermsResult:
@@ -168,10 +177,11 @@ class TermSuggest(Query):
         top = check_top(self.top, vs)
         include = _regex(self.include, "include")
         exclude = _regex(self.exclude, "exclude")
-        member_rows = [vs.row(w) for w in self.members]  # unknown words: UnknownWordError with close matches
-        dropped_rows = [vs.row(w) for w in self.dropped]
-        decided_rows = sorted({vs.row(w) for w in self.decided})
-        q = feedback_vector(vs, member_rows, dropped_rows, self.gamma)
+        # Unknown words: UnknownWordError with close matches, or (fastText) built from their character n-grams.
+        members_v = [vs.word_vector(w, subwords=self.subwords) for w in self.members]
+        dropped_v = [vs.word_vector(w, subwords=self.subwords) for w in self.dropped]
+        decided_rows = sorted({r for r in (vs.find(w) for w in self.decided) if r is not None})
+        q = feedback_vector([m.vector for m in members_v], [d.vector for d in dropped_v], self.gamma)
         ann = session.ann(self.exact)
         ann = ann.for_expressions() if ann is not None else None  # a centroid, like an expression's vector
         mode = "exact" if self.exact else "auto"
@@ -192,17 +202,20 @@ class TermSuggest(Query):
                 break
             want = min(limit, want * 4)
         kept_pairs = kept_pairs[:k]
-        support = support_counts(session, member_rows, [r for r, _ in kept_pairs], sk)
+        support = support_counts(session, members_v, [r for r, _ in kept_pairs], sk)
         found = tuple(Candidate(i + 1, vs.words[r], s, support[i]) for i, (r, s) in enumerate(kept_pairs))
-        return TermsResult(self, used, found, len(member_rows), (time.perf_counter() - t0) * 1000)
+        subwords = tuple(SubwordWord(m.word, m.known, m.ngrams, m.close) for m in members_v if m.row is None)
+        return TermsResult(self, used, found, len(members_v), (time.perf_counter() - t0) * 1000, subwords)
 
 
-def feedback_vector(vs: VectorSet, members: list[int], dropped: list[int], gamma: float) -> NDArray[np.float32]:
-    """``unit(mean(unit(members)) − γ · mean(unit(dropped)))``; rows of ``vs.unit`` are unit vectors already."""
-    q = np.asarray(vs.unit[sorted(members)], dtype=np.float32).mean(axis=0)
+def feedback_vector(
+    members: list[NDArray[np.float32]], dropped: list[NDArray[np.float32]], gamma: float
+) -> NDArray[np.float32]:
+    """``unit(mean(members) − γ · mean(dropped))`` of unit vectors."""
+    q: NDArray[np.float32] = np.stack(members).mean(axis=0).astype(np.float32)
     if dropped and gamma:
-        q = q - np.float32(gamma) * np.asarray(vs.unit[sorted(dropped)], dtype=np.float32).mean(axis=0)
-    return unit_query(q.astype(np.float32))
+        q = (q - np.float32(gamma) * np.stack(dropped).mean(axis=0)).astype(np.float32)
+    return unit_query(q)
 
 
 def _regex(pattern: str, name: str) -> re.Pattern[str] | None:
@@ -226,22 +239,23 @@ def _passes(
 
 # Each member's neighbour set is the same from one suggestion to the next (a decision adds or removes one member),
 # so they are kept, per vector set and support k, in a small LRU: a refresh after a decision computes one list.
-_NEIGHBOURS: OrderedDict[tuple[str, int, int], frozenset[int]] = OrderedDict()
+_NEIGHBOURS: OrderedDict[tuple[str, str, int], frozenset[int]] = OrderedDict()
 _NEIGHBOURS_MAX = 4096
 _LOCK = threading.Lock()
 
 
-def member_neighbours(session: Session, row: int, k: int) -> frozenset[int]:
-    """The rows of the ``k`` nearest neighbours of row ``row`` (itself excluded), from the index where ready."""
+def member_neighbours(session: Session, member: WordVector, k: int) -> frozenset[int]:
+    """The rows of the ``k`` nearest neighbours of a list word (itself excluded), from the index where ready."""
     vs = session.vectors
     ann = session.ann()
-    key = (vs.fingerprint if vs.cache_dir is not None else f"memory-{id(vs)}", row, k)
+    key = (vs.fingerprint if vs.cache_dir is not None else f"memory-{id(vs)}", member.word, k)
     with _LOCK:
         hit = _NEIGHBOURS.get(key)
         if hit is not None:
             _NEIGHBOURS.move_to_end(key)
             return hit
-    rows, _, _ = top_for_vector(vs, np.asarray(vs.unit[row], dtype=np.float32), k, [row], ann=ann)
+    exclude = [member.row] if member.row is not None else []
+    rows, _, _ = top_for_vector(vs, member.vector, k, exclude, ann=ann)
     found = frozenset(int(r) for r in rows)
     with _LOCK:
         _NEIGHBOURS[key] = found
@@ -250,7 +264,8 @@ def member_neighbours(session: Session, row: int, k: int) -> frozenset[int]:
     return found
 
 
-def support_counts(session: Session, members: list[int], candidates: list[int], k: int) -> list[int]:
-    """For each candidate row: how many member rows have it among their ``k`` nearest neighbours."""
-    sets = [member_neighbours(session, m, k) for m in members if not session.vectors.is_zero(m)]
+def support_counts(session: Session, members: list[WordVector], candidates: list[int], k: int) -> list[int]:
+    """For each candidate row: how many list words have it among their ``k`` nearest neighbours."""
+    vs = session.vectors
+    sets = [member_neighbours(session, m, k) for m in members if m.row is None or not vs.is_zero(m.row)]
     return [sum(1 for s in sets if c in s) for c in candidates]

@@ -18,7 +18,7 @@ from numpy.typing import NDArray
 from .errors import UnreadableFileError
 
 Compression = Literal["gzip", "bz2", "xz"] | None
-Kind = Literal["word2vec-text", "glove-text", "word2vec-binary", "npy", "pickle"]
+Kind = Literal["word2vec-text", "glove-text", "word2vec-binary", "npy", "pickle", "fasttext-bin"]
 
 
 @dataclass
@@ -41,6 +41,8 @@ class Detected:
     header_count: int | None  # N from an ``N D`` header, if there is one
     trailing_space: bool = False  # text rows end with a space (word2vec C tool, fastText)
     words_path: Path | None = None  # for .npy
+    #: fastText ``.bin``: (minn, maxn, bucket) of its character n-grams
+    subwords: tuple[int, int, int] | None = None
     warnings: list[str] = field(default_factory=list)
 
     @property

@@ -32,3 +32,30 @@ def rows_from_json(rows: Any) -> tuple[Neighbour, ...]:
 
 def ranked(rows: tuple[Neighbour, ...]) -> list[tuple[str, int]]:
     return [(r.word, r.rank) for r in rows]
+
+
+@dataclass(frozen=True)
+class SubwordWord:
+    """A query word that is not in the vocabulary and was built from its character n-grams (fastText)."""
+
+    word: str
+    known: int  # of its n-grams, how many the model's vocabulary has (so were trained)
+    ngrams: int
+    close: tuple[str, ...] = ()  # close matches in the vocabulary
+
+    def note(self) -> str:
+        out = f"≈ {self.word}: not in the vocabulary; built from its character n-grams"
+        out += f" ({self.known} of {self.ngrams} known)"
+        return out + (f"; close matches: {', '.join(self.close)}" if self.close else "")
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "word": self.word,
+            "ngrams": {"known": self.known, "total": self.ngrams},
+            "close_matches": list(self.close),
+        }
+
+    @classmethod
+    def from_json(cls, d: dict[str, Any]) -> SubwordWord:
+        n = d.get("ngrams", {})
+        return cls(str(d["word"]), int(n.get("known", 0)), int(n.get("total", 0)), tuple(d.get("close_matches", [])))

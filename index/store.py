@@ -21,6 +21,22 @@ from .errors import UnknownWordError, UnreadableFileError, WordkinError
 from .formats import detect, read_batches
 from .progress import CancelFn, ProgressFn, check
 from .reader_types import Detected
+from .subwords import SubwordTable
+
+
+@dataclass(frozen=True)
+class WordVector:
+    """A word's unit vector for a query: from its ``row`` of the vocabulary, or (``source`` "subwords") built from
+    its character n-grams by a fastText model, with how many of its ``ngrams`` are ``known`` and the vocabulary's
+    ``close`` matches beside it."""
+
+    word: str
+    vector: NDArray[np.float32]
+    row: int | None
+    source: str = "vocabulary"
+    known: int = 0
+    ngrams: int = 0
+    close: tuple[str, ...] = ()
 
 
 @dataclass
@@ -37,6 +53,8 @@ class VectorSet:
     cache_dir: Path | None
     meta: cache.CacheMeta
     warnings: list[str] = field(default_factory=list)
+    #: A fastText model's n-gram table: vectors for words not in the vocabulary.
+    subwords: SubwordTable | None = None
     cache_note: str = ""  # "hit", "built", "rebuilt: <reason>", "off"
     _lookup: dict[str, int] | None = None
     _lookups: int = 0
@@ -93,6 +111,22 @@ class VectorSet:
 
     def is_zero(self, row: int) -> bool:
         return bool(self.norms[row] == 0)
+
+    def word_vector(self, word: str, *, subwords: bool = True) -> WordVector:
+        """``word``'s unit vector: its row if it is in the vocabulary; else, for a fastText model and unless
+        ``subwords`` is false, the mean of its character n-gram rows, normalised; else ``UnknownWordError``."""
+        r = self.find(word)
+        if r is not None:
+            return WordVector(word, np.asarray(self.unit[r], dtype=np.float32), r)
+        from .suggest import close_matches
+
+        close = close_matches(self.words, word)
+        if subwords and self.subwords is not None:
+            raw, known, total = self.subwords.vector(word)
+            n = float(np.linalg.norm(raw))
+            if total and n > 0:
+                return WordVector(word, (raw / n).astype(np.float32), None, "subwords", known, total, tuple(close))
+        raise UnknownWordError(word, close)
 
 
 def open_vectors(
@@ -162,7 +196,7 @@ def _build(
     norm_parts: list[np.ndarray] = []
     writer: cache.MatrixWriter | None = None
     try:
-        for batch in read_batches(det, progress):
+        for batch in read_batches(det, progress, workdir=dir_):
             check(cancel)
             if writer is None:
                 writer = cache.MatrixWriter(dir_ / "matrix.npy", det.dims)
@@ -213,6 +247,7 @@ def _build(
         words_escaped=escaped,
         warnings=tuple(warnings),
         parse_seconds=round(time.perf_counter() - t0, 3),
+        subwords=cache.SubwordMeta(*det.subwords) if det.subwords else None,
     )
     cache.write_meta(dir_, meta)
     return meta
@@ -237,6 +272,13 @@ def _map(source: Path, dir_: Path, meta: cache.CacheMeta, fp: str, cache_dir: Pa
     words = cache.decode_words((dir_ / "words.txt").read_bytes(), meta.words_escaped, meta.words)
     if len(words) != unit.shape[0] or len(norms) != unit.shape[0]:
         raise ValueError("words, norms and matrix disagree in length")
+    subwords = None
+    if meta.subwords is not None:
+        ngrams = np.load(dir_ / "ngrams.npy", mmap_mode="r")
+        seen = np.load(dir_ / "ngrams_seen.npy", allow_pickle=False)
+        if ngrams.shape != (meta.subwords.bucket, meta.dims) or seen.shape != (meta.subwords.bucket,):
+            raise ValueError("the n-gram matrix does not match meta.json")
+        subwords = SubwordTable(ngrams, seen, meta.subwords.minn, meta.subwords.maxn)
     return VectorSet(
         source=source,
         format=meta.format,
@@ -248,6 +290,7 @@ def _map(source: Path, dir_: Path, meta: cache.CacheMeta, fp: str, cache_dir: Pa
         cache_dir=cache_dir,
         meta=meta,
         warnings=list(meta.warnings),
+        subwords=subwords,
     )
 
 
