@@ -88,9 +88,11 @@ class WordkinApp(App[int]):
         trust_pickle: bool = False,
         notebook: str | None = None,
         build_index: bool = True,
+        against: str | None = None,
     ) -> None:
         super().__init__()
         self.path = path
+        self.against = against
         self.cache = cache
         self.use_cache = use_cache
         self.trust_pickle = trust_pickle
@@ -145,7 +147,18 @@ class WordkinApp(App[int]):
                 if v != w:
                     escaped[v] = w
             vocab = VocabView(escaped, completion_list(vs.words))
-            session = Session.from_load(vs, load(vs))
+            old = None
+            if self.against is not None:
+                old = open_vectors(
+                    self.against,
+                    cache_root=self.cache,
+                    use_cache=self.use_cache,
+                    trust_pickle=self.trust_pickle,
+                    progress=lambda d, t, st: self._report_load(d, t, "the set it replaces: " + st),
+                    cancel=lambda: worker.is_cancelled,
+                )
+                old.lookup()
+            session = Session.from_load(vs, load(vs), against=old)
         except CancelledError:
             return
         except WordkinError as exc:
@@ -174,6 +187,8 @@ class WordkinApp(App[int]):
         self.vocab = msg.vocab
         status = self.query_one(StatusLine)
         status.summary = f"· {vs.n:,} words · {vs.dims} dims"
+        if session.against is not None:
+            status.summary += f" · vs {os.path.basename(str(session.against.source))}"
         notices = list(vs.warnings)
         if session.state is IndexState.REJECTED:
             notices.append(f"index rejected ({session.reason}); rebuilding it")
@@ -255,6 +270,7 @@ def create_app(path: str, args: argparse.Namespace | None = None, **kw: Any) -> 
         kw.setdefault("use_cache", not getattr(args, "no_cache", False))
         kw.setdefault("trust_pickle", getattr(args, "trust_pickle", False))
         kw.setdefault("notebook", getattr(args, "notebook", None))
+        kw.setdefault("against", getattr(args, "against", None))
     return WordkinApp(str(Path(path)), **kw)
 
 
@@ -262,6 +278,8 @@ def run_console(path: str, args: argparse.Namespace) -> int:
     from wordkin.index.formats import detect
 
     detect(path, trust_pickle=args.trust_pickle)  # fail fast, before the screen opens, on an unreadable file
+    if getattr(args, "against", None):
+        detect(args.against, trust_pickle=args.trust_pickle)
     app = create_app(path, args)
     app.run()
     return app.return_code or 0

@@ -11,6 +11,7 @@ from collections.abc import Sequence
 from wordkin.index.errors import UsageError, WordkinError
 
 from .cli_queries import COMMANDS
+from .commands_release import add_parsers as add_release_parsers
 from .commands_terms import add_parser as add_terms_parser
 from .safe_text import visible
 
@@ -40,6 +41,7 @@ def build_parser() -> argparse.ArgumentParser:
     p = sub.add_parser("open", help="console on FILE")
     p.add_argument("file")
     p.add_argument("--notebook", metavar="NB")
+    p.add_argument("--against", metavar="OLD", help="compare FILE with the set it replaces (neighbours, Compare pane)")
     _shared(p)
 
     p = sub.add_parser("prepare", help="build the cache and the index now, then print a summary")
@@ -81,6 +83,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--debug", action="store_true")
 
     add_terms_parser(sub, _shared)
+    add_release_parsers(sub, _shared, _save_opts)
 
     p = sub.add_parser("import", help="import a JSON export (notebook or term list) into a notebook")
     p.add_argument("json_file", metavar="JSON")

@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from wordkin.index.errors import UsageError
-from wordkin.index.queries import KINDS, Arithmetic, Neighbours, Query, Similarity, TermSuggest
+from wordkin.index.queries import KINDS, Arithmetic, Checkup, Compare, Neighbours, Query, Similarity, TermSuggest
 
 
 @dataclass(frozen=True)
@@ -173,6 +173,40 @@ def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
     ]
 
 
+def _checkup_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    assert isinstance(q, Checkup)
+    return [
+        "checkup",
+        file,
+        "-k",
+        str(q.k),
+        *[x for p in q.pairs for x in ("--pairs", p)],
+        *[x for a in q.analogies for x in ("--analogies", a)],
+    ]
+
+
+def _compare_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    """The same file as OLD and NEW (a test walks every kind on one vector file)."""
+    assert isinstance(q, Compare)
+    words: list[str] = []
+    if q.words:
+        f = scratch / "compare-words.txt"
+        f.write_text("\n".join(q.words) + "\n", encoding="utf-8")
+        words = ["--words", str(f)]
+    return [
+        "compare",
+        file,
+        file,
+        "-k",
+        str(q.k),
+        *(words or ["--top", str(q.top)]),
+        "--most",
+        str(q.most),
+        *[x for p in q.pairs for x in ("--pairs", p)],
+        *[x for a in q.analogies for x in ("--analogies", a)],
+    ]
+
+
 COMMANDS = (
     QueryCommand("near", Neighbours.kind, "nearest neighbours of WORD", _near_args, _near, _near_argv),
     QueryCommand(
@@ -187,6 +221,8 @@ COMMANDS = (
         "sim", Similarity.kind, "pairwise cosines of a list of words, and the odd one out", _sim_args, _sim, _sim_argv
     ),
     QueryCommand("terms suggest", TermSuggest.kind, "candidates for a term list", None, None, _terms_argv),
+    QueryCommand("checkup", Checkup.kind, "a check-up of one vector set", None, None, _checkup_argv),
+    QueryCommand("compare", Compare.kind, "a set against the one it replaces", None, None, _compare_argv),
 )
 BY_NAME = {c.name: c for c in COMMANDS}
 BY_KIND = {c.kind: c for c in COMMANDS}

@@ -231,7 +231,21 @@ def cmd_terms(args: argparse.Namespace) -> int:
     return run(args)
 
 
+def cmd_checkup(args: argparse.Namespace) -> int:
+    from .commands_release import cmd_checkup as run
+
+    return run(args)
+
+
+def cmd_compare(args: argparse.Namespace) -> int:
+    from .commands_release import cmd_compare as run
+
+    return run(args)
+
+
 HANDLERS = {
+    "checkup": cmd_checkup,
+    "compare": cmd_compare,
     "terms": cmd_terms,
     "near": cmd_query,
     "calc": cmd_query,

@@ -16,8 +16,9 @@ from textual import work
 from textual.binding import Binding
 from textual.containers import Vertical
 from textual.message import Message
+from textual.worker import get_current_worker
 
-from wordkin.index.errors import UsageError, WordkinError
+from wordkin.index.errors import CancelledError, UsageError, WordkinError
 from wordkin.index.query_base import Query, Result
 from wordkin.index.session import Session
 
@@ -52,6 +53,8 @@ class QueryPane(Vertical):
     """Base of the panes that answer one kind of query (``kind``)."""
 
     kind: ClassVar[type[Query]]
+    #: The kind's ``run`` takes ``progress`` and ``cancel`` (slow work: shown as it goes, cancelled by a new ask).
+    slow: ClassVar[bool] = False
 
     BINDINGS = [
         Binding("ctrl+g", "toggle_subwords", "Subwords on/off", id="query.subwords"),
@@ -71,6 +74,16 @@ class QueryPane(Vertical):
             super().__init__()
             self.query = query
             self.error = error
+
+    class Progress(Message):
+        """Slow work (a check-up, a comparison) moved on: ``total`` 0 means an unknown amount."""
+
+        def __init__(self, done: int, total: int, stage: str) -> None:
+            super().__init__()
+            self.done, self.total, self.stage = done, total, stage
+
+        def can_replace(self, message: Message) -> bool:
+            return isinstance(message, QueryPane.Progress)
 
     class SaveRequested(Message):
         """The user asked to save the result on screen to the notebook."""
@@ -142,8 +155,18 @@ class QueryPane(Vertical):
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="query", description="answer a query")
     def answer(self, query: Query, session: Session) -> None:
+        worker = get_current_worker()
         try:
-            res = query.run(session)
+            if self.slow:
+                res = query.run(  # type: ignore[call-arg]
+                    session,
+                    progress=lambda d, t, st: self.post_message(self.Progress(d, t, st)),
+                    cancel=lambda: worker.is_cancelled,
+                )
+            else:
+                res = query.run(session)
+        except CancelledError:
+            return
         except WordkinError as exc:
             self.post_message(self.Failed(query, exc))
             return

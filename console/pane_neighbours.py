@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import dataclasses
 from typing import ClassVar
 
 from rich.text import Text
@@ -34,6 +35,15 @@ class NeighboursPane(QueryPane):
         Binding("escape", "focus_input", "Edit the query", show=False, id="neighbours.focus"),
     ]
 
+    class Compared(Message):
+        """The same query answered by the set the open one replaces: ``old`` (None if the word is not there)."""
+
+        def __init__(self, result: NeighbourResult, old: NeighbourResult | None, error: str = "") -> None:
+            super().__init__()
+            self.result = result
+            self.old = old
+            self.error = error
+
     class MutualMarked(Message):
         """Which rows of ``result`` are mutual neighbours (the query is in their top k too)."""
 
@@ -59,9 +69,15 @@ class NeighboursPane(QueryPane):
             yield Checkbox("fold case", id="nb-fold")
             yield Checkbox("exact", id="nb-exact")
         yield Static("", id="nb-message", classes="message")
+        compare_line = Static("", id="nb-compare", classes="line")
+        compare_line.display = False  # shown when a second set is open (--against)
+        yield compare_line
         yield NeighbourTable(id="nb-table")
 
     def session_ready(self) -> None:
+        if self.session is not None and self.session.against is not None:
+            self.query_one(NeighbourTable).add_comparison_columns()
+            self.query_one("#nb-compare", Static).display = True
         if self.vocab is not None:
             self.query_one("#nb-word", Input).suggester = VocabSuggester(self.vocab.completion)
 
@@ -177,6 +193,47 @@ class NeighboursPane(QueryPane):
         self.show_message(head)
         if self.session is not None and result.rows and result.subword is None:
             self.mark_mutual(result, self.session)
+        if self.session is not None and self.session.against is not None:
+            self.compare_with_old(result, self.session)
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="against", description="neighbours in the old set")
+    def compare_with_old(self, result: NeighbourResult, session: Session) -> None:
+        assert session.against is not None
+        q = dataclasses.replace(result.query, exact=True)
+        try:
+            old = q.run(Session(session.against))
+        except WordkinError as exc:
+            self.post_message(self.Compared(result, None, exc.message))
+            return
+        self.post_message(self.Compared(result, old))
+
+    def on_neighbours_pane_compared(self, msg: Compared) -> None:
+        if msg.result is not self.result:
+            return
+        table = self.query_one(NeighbourTable)
+        if msg.old is None:
+            table.set_comparison([], [])
+            self.show_message(Text(f"old set: {visible(msg.error)}", style="yellow"))
+            return
+        old_rank = {r.word: r.rank for r in msg.old.rows}
+        changes = []
+        for r in msg.result.rows:
+            was = old_rank.get(r.word)
+            if was is None:
+                changes.append(Text("new", style="bold green"))
+            elif was == r.rank:
+                changes.append(Text("=", style="dim"))
+            else:
+                changes.append(Text(f"{'↑' if was > r.rank else '↓'}{abs(was - r.rank)}", style="yellow"))
+        table.set_comparison(changes, [r.word for r in msg.old.rows])
+        new_words = {r.word for r in msg.result.rows}
+        lost = [r.word for r in msg.old.rows if r.word not in new_words]
+        if lost:
+            t = Text("lost since the old set: ", style="red")
+            t.append(visible(", ".join(lost)))
+            self.query_one("#nb-compare", Static).update(t)
+        else:
+            self.query_one("#nb-compare", Static).update(Text("the old set had the same words", style="dim"))
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="mutual", description="mutual neighbours")
     def mark_mutual(self, result: NeighbourResult, session: Session) -> None:

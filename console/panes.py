@@ -12,6 +12,7 @@ from textual.widget import Widget
 from .pane_arith import ArithmeticPane
 from .pane_neighbours import NeighboursPane
 from .pane_notebook import NotebookPane
+from .pane_release import CheckupPane, ComparePane
 from .pane_similarity import SimilarityPane
 from .pane_terms import TermsPane
 
@@ -24,20 +25,27 @@ class PaneSpec:
     make: Callable[[str | None], Widget]  # from the notebook path
     focus: str  # the widget that gets the focus when the pane is opened
     bindings: Sequence[BindingType]
+    tab: str = ""  # a short name for the tab (eight tabs share 80 columns)
 
     @property
     def tab_label(self) -> str:
-        return f"{self.label} {self.keys.split(',')[0].upper()}"
+        return f"{self.tab or self.label} {self.keys.split(',')[0].upper()}"
 
     def binding(self) -> Binding:
         return Binding(self.keys, f"pane('{self.id}')", self.label, id=f"app.{self.id}")
 
 
 PANES: tuple[PaneSpec, ...] = (
-    PaneSpec("neighbours", "Neighbours", "f2", lambda nb: NeighboursPane(), "#nb-word", NeighboursPane.BINDINGS),
-    PaneSpec("arith", "Arithmetic", "f3", lambda nb: ArithmeticPane(), "#ar-expr", ArithmeticPane.BINDINGS),
-    PaneSpec("similarity", "Similarity", "f4", lambda nb: SimilarityPane(), "#sm-words", SimilarityPane.BINDINGS),
+    PaneSpec(
+        "neighbours", "Neighbours", "f2", lambda nb: NeighboursPane(), "#nb-word", NeighboursPane.BINDINGS, "Near"
+    ),
+    PaneSpec("arith", "Arithmetic", "f3", lambda nb: ArithmeticPane(), "#ar-expr", ArithmeticPane.BINDINGS, "Calc"),
+    PaneSpec(
+        "similarity", "Similarity", "f4", lambda nb: SimilarityPane(), "#sm-words", SimilarityPane.BINDINGS, "Sim"
+    ),
     PaneSpec("notebook", "Notebook", "f5", lambda nb: NotebookPane(nb), "#nbk-list", NotebookPane.BINDINGS),
     PaneSpec("terms", "Terms", "f6", lambda nb: TermsPane(nb), "#tm-table", TermsPane.BINDINGS),
+    PaneSpec("compare", "Compare", "f7", lambda nb: ComparePane(), "#cmp-table", ComparePane.BINDINGS),
+    PaneSpec("checkup", "Checkup", "f8", lambda nb: CheckupPane(), "#chk-report-box", CheckupPane.BINDINGS),
 )
 BY_ID = {p.id: p for p in PANES}

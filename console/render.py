@@ -9,6 +9,7 @@ from rich.cells import cell_len
 
 from wordkin.index.query_base import Cell, Result, Table
 
+from .plots import histogram_lines
 from .safe_text import visible, visible_word
 
 
@@ -65,6 +66,9 @@ def result_text(res: Result) -> str:
             out.append(visible(caption))
         out.extend(table_lines(t))
     out.extend(visible(n) for n in res.notes())
+    for title, h in res.histograms():
+        out.append("")
+        out.extend(histogram_lines(title, h))
     return "\n".join(out) + "\n"
 
 

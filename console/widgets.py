@@ -122,10 +122,22 @@ class NeighbourTable(DataTable[Text]):
                 Text(f"{r.similarity:.3f}", justify="right"),
                 bar(r.similarity),
                 mark,
+                *([Text(""), Text("")] if "change" in self.columns else []),
                 key=str(i),
             )
         if rows:
             self.move_cursor(row=0)
+
+    def add_comparison_columns(self) -> None:
+        """Two more columns when a second set is open: how each row moved, and the old set's list."""
+        if "change" not in self.columns:
+            self.add_column(Text("Δ old"), key="change", width=6)
+            self.add_column(Text("old list"), key="old")
+
+    def set_comparison(self, changes: Sequence[Text], old_words: Sequence[str]) -> None:
+        for i in range(self.row_count):
+            self.update_cell(str(i), "change", changes[i] if i < len(changes) else Text(""))
+            self.update_cell(str(i), "old", word_text(old_words[i]) if i < len(old_words) else Text(""))
 
     def set_marks(self, marks: Sequence[bool]) -> None:
         for i, m in enumerate(marks):

@@ -74,6 +74,7 @@ class CacheMeta:
     dims: int
     words_bytes: int = 0
     words_escaped: bool = False
+    duplicates: int = 0  # duplicate words dropped at load (the first of each kept)
     warnings: tuple[str, ...] = ()
     parse_seconds: float = 0.0
     index: IndexMeta = field(default_factory=IndexMeta)

@@ -7,6 +7,8 @@ here (``KINDS``, ``query_from_json``, ``result_from_json``) and never branch on 
 from __future__ import annotations
 
 from .kind_arithmetic import Arithmetic, CalcResult
+from .kind_checkup import Checkup, CheckupResult
+from .kind_compare import Compare, CompareResult
 from .kind_neighbours import NeighbourResult, Neighbours
 from .kind_similarity import Similarity, SimilarityResult
 from .kind_terms import Candidate, TermsResult, TermSuggest
@@ -16,6 +18,10 @@ __all__ = [
     "KINDS",
     "Arithmetic",
     "Candidate",
+    "Checkup",
+    "CheckupResult",
+    "Compare",
+    "CompareResult",
     "CalcResult",
     "Diff",
     "NeighbourResult",

@@ -78,6 +78,10 @@ class Result:
     def notes(self) -> list[str]:
         return []
 
+    def histograms(self) -> list[tuple[str, Any]]:
+        """``(title, release_stats.Histogram)`` pairs: the pictures of the result (none for most kinds)."""
+        return []
+
     def records(self) -> list[dict[str, Cell]]:
         """One flat dict per table row (the CSV export)."""
         t = self.table()
@@ -93,6 +97,8 @@ class Query:
     kind: ClassVar[str]
     #: The result class this kind answers with (``result_class.from_json(d, query)`` reads a stored one back).
     result_class: ClassVar[type[Any]]
+    #: True for kinds that compare the open set with a second one (the session's ``against``).
+    needs_against: ClassVar[bool] = False
 
     def run(self, session: Any) -> Result:
         raise NotImplementedError

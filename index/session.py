@@ -23,10 +23,12 @@ class Session:
     state: IndexState = IndexState.EMPTY
     #: Why the index was rejected or failed (empty otherwise).
     reason: str = ""
+    #: The set the open one replaces, when comparing (``wordkin open NEW --against OLD``).
+    against: VectorSet | None = None
 
     @classmethod
-    def from_load(cls, vectors: VectorSet, loaded: IndexLoad) -> Session:
-        return cls(vectors, loaded.index, loaded.state, loaded.reason)
+    def from_load(cls, vectors: VectorSet, loaded: IndexLoad, against: VectorSet | None = None) -> Session:
+        return cls(vectors, loaded.index, loaded.state, loaded.reason, against)
 
     def ann(self, exact: bool = False) -> AnnIndex | None:
         """The index to ask for candidates, or None when queries are answered by an exact scan."""

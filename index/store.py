@@ -220,6 +220,7 @@ def _build(
     first: dict[str, int] = {}
     for i, w in enumerate(words):
         first.setdefault(w, i)
+    duplicates = len(words) - len(first)
     if len(first) != len(words):
         dup = len(words) - len(first)
         warnings.append(f"{dup} duplicate word{'s' if dup != 1 else ''}: kept the first occurrence of each")
@@ -245,6 +246,7 @@ def _build(
         dims=det.dims,
         words_bytes=len(data),
         words_escaped=escaped,
+        duplicates=duplicates,
         warnings=tuple(warnings),
         parse_seconds=round(time.perf_counter() - t0, 3),
         subwords=cache.SubwordMeta(*det.subwords) if det.subwords else None,

@@ -57,7 +57,7 @@ def test_every_kind_has_a_command_and_a_pane():
 
 
 def test_json_round_trip_and_rerun_without_changes(demo, tmp_path):
-    session = session_of(demo)
+    session = dataclasses.replace(session_of(demo), against=demo)  # the kinds that compare get a second set
     queries = all_queries(demo)
     assert len(queries) >= 3 * 2 * 2 * 2 * 2  # neighbours alone: k x top x hide forms x fold case x exact
     with Notebook.open(tmp_path / "nb.wkn") as nb:
@@ -76,7 +76,7 @@ def test_json_round_trip_and_rerun_without_changes(demo, tmp_path):
 
 
 def test_command_line_gives_the_engine_rows(demo, capsys, tmp_path):
-    session = session_of(demo)
+    session = dataclasses.replace(session_of(demo), against=demo)
     for q in all_queries(demo):
         rc = cli_main([*argv_for(q, str(demo_path()), tmp_path), "--json"])
         captured = capsys.readouterr()
@@ -88,11 +88,12 @@ def test_command_line_gives_the_engine_rows(demo, capsys, tmp_path):
 
 def test_pane_describes_and_answers_every_query(demo, tmp_path):
     queries = all_queries(demo)
-    session = session_of(demo)
+    session = dataclasses.replace(session_of(demo), against=demo)
     seen: list = []
 
     async def main():
-        app = create_app(str(demo_path()), notebook=str(tmp_path / "nb.wkn"), build_index=False)
+        against = str(demo_path()) if any(k.needs_against for k in KINDS.values()) else None
+        app = create_app(str(demo_path()), notebook=str(tmp_path / "nb.wkn"), build_index=False, against=against)
         async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
             await wait_for(pilot, lambda: app.session is not None)
             panes = {p.kind.kind: p for p in app.query(QueryPane)}
@@ -100,7 +101,17 @@ def test_pane_describes_and_answers_every_query(demo, tmp_path):
                 pane = panes[q.kind]
                 seen.clear()
                 pane.load_query(q)
-                await wait_for(pilot, lambda p=pane, q=q: p.result is not None and p.result.query == q)
+                failed = [m for m in seen if isinstance(m, QueryPane.Failed)]
+                await wait_for(
+                    pilot,
+                    lambda p=pane, q=q: (
+                        (p.result is not None and p.result.query == q)
+                        or any(isinstance(m, QueryPane.Failed) for m in seen)
+                    ),
+                    timeout=60,
+                )
+                failed = [m for m in seen if isinstance(m, QueryPane.Failed)]
+                assert not failed, (q, failed[0].error.message)
                 assert pane.current_query() == q  # every option has a widget, and the widgets say it back
                 assert pane.result.table() == q.run(session).table()
 
