@@ -58,6 +58,9 @@ class TermsPane(QueryPane):
         self.state: TermSuggest | None = None  # seeds and decisions of the list shown (stored or from a query)
         self.box_mode = "new"  # what Enter in the name box does: "new" or "rename"
         self.cursor_row = 0
+        #: The candidates as the table shows them now: a decision takes its row out at once, so that keys pressed
+        #: in quick succession act on the next candidates before the refreshed table arrives.
+        self.shown: list[str] = []
 
     def compose(self) -> ComposeResult:
         with Horizontal(classes="options"):
@@ -305,11 +308,10 @@ class TermsPane(QueryPane):
         self.screen.set_focus(box)
 
     def highlighted(self) -> str | None:
-        res = self.result
         t = self.query_one("#tm-table", DataTable)
-        if not isinstance(res, TermsResult) or not res.rows or t.cursor_row < 0 or t.cursor_row >= len(res.rows):
+        if not self.shown or t.cursor_row < 0 or t.cursor_row >= len(self.shown):
             return None
-        return res.rows[t.cursor_row].word
+        return self.shown[t.cursor_row]
 
     def action_decide(self, state: str) -> None:
         word = self.highlighted()
@@ -319,7 +321,12 @@ class TermsPane(QueryPane):
             self.show_failure(UsageError("this list is not in the notebook: make it with n to record decisions"))
             return
         name = self.term_list.name
-        self.cursor_row = self.query_one("#tm-table", DataTable).cursor_row
+        table = self.query_one("#tm-table", DataTable)
+        self.cursor_row = table.cursor_row
+        table.remove_row(word)
+        self.shown.remove(word)
+        if self.shown:
+            table.move_cursor(row=min(self.cursor_row, len(self.shown) - 1))
 
         def op(nb: Notebook) -> TermList:
             decide(nb, name, [word], state)
@@ -366,6 +373,7 @@ class TermsPane(QueryPane):
         assert isinstance(result, TermsResult)
         t = self.query_one("#tm-table", DataTable)
         t.clear()
+        self.shown = [c.word for c in result.rows]
         for c in result.rows:
             t.add_row(
                 Text(str(c.rank), justify="right"),
@@ -373,6 +381,7 @@ class TermsPane(QueryPane):
                 Text(f"{c.score:.3f}", justify="right"),
                 Text(f"{c.support}/{result.members}", justify="right"),
                 bar(c.score, 12),
+                key=c.word,
             )
         if result.rows:
             t.move_cursor(row=min(self.cursor_row, len(result.rows) - 1))
@@ -385,6 +394,7 @@ class TermsPane(QueryPane):
 
     def show_failure(self, error: WordkinError) -> None:
         self.query_one("#tm-table", DataTable).clear()
+        self.shown = []
         self.show_message(error_text(error))
 
     def show_message(self, text: Text) -> None:

@@ -128,6 +128,7 @@ def test_term_list_built_and_exported_at_80x24(tmux, tmp_path):
     first, second = rows[0], rows[1]
     tmux.keys("k")  # keep the first candidate; the cursor stays on row 1, now the next word
     tmux.wait(f"3 terms: hotel, inn, {first}")
+    time.sleep(1.0)  # as above: a person's pause before the next key
     tmux.keys("d")  # drop what moved up to row 1
     tmux.wait("dropped 1")
     tmux.keys("x")
