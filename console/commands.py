@@ -173,8 +173,8 @@ def cmd_export(args: argparse.Namespace) -> int:
     from .export import export_command, write_file
 
     text = export_command(args)
-    if args.output and args.output != "-":
-        p = write_file(args.output, text, force=args.force)
+    if args.output:
+        p = write_file(args.output, text, force=args.force, how_to_force="pass --force")
         note(f"wrote {p}")
     else:
         sys.stdout.write(text)

@@ -225,8 +225,8 @@ def t_export(args: argparse.Namespace) -> int:
     with Notebook.open(args.notebook, create=False) as nb:
         tl = get_list(nb, args.name)
     text = render(tl, args.format, now())
-    if args.output and args.output != "-":
-        p = write_file(args.output, text, force=args.force)
+    if args.output:
+        p = write_file(args.output, text, force=args.force, how_to_force="pass --force")
         _say(f"wrote {p}")
     else:
         sys.stdout.write(text)

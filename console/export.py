@@ -13,7 +13,6 @@ import io
 import json
 import os
 import re
-import tempfile
 from pathlib import Path
 from typing import Any
 
@@ -24,6 +23,7 @@ from wordkin.index.query_base import Table
 
 from .legacy import upgrade_v1
 from .notebook import Entry, Notebook
+from .output_file import write_output
 from .render import cell_text, table_lines
 from .safe_text import visible, visible_word
 
@@ -206,24 +206,9 @@ def render(nb: Notebook, fmt: str, exported: str) -> str:
     raise UsageError(f"--format is one of {', '.join(FORMATS)}, not {fmt!r}")
 
 
-def write_file(out: str | os.PathLike[str], text: str, *, force: bool = False) -> Path:
-    """Write ``text`` to ``out`` through a temporary file and a rename; refuse to replace a file without force."""
-    p = Path(out)
-    if p.exists() and not force:
-        raise UsageError(f"{p} exists; pass --force to replace it")
-    if p.is_dir():
-        raise UsageError(f"{p} is a directory")
-    fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=p.parent or ".")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as f:
-            f.write(text)
-            f.flush()
-            os.fsync(f.fileno())
-        os.replace(tmp, p)
-    except BaseException:
-        Path(tmp).unlink(missing_ok=True)
-        raise
-    return p
+def write_file(out: str | os.PathLike[str], text: str, *, force: bool = False, how_to_force: str = "--force") -> str:
+    """Write an export by the rules of ``output_file.write_output``; returns where it went."""
+    return write_output(out, text, force=force, how_to_force=how_to_force)
 
 
 def read_export(path: str | os.PathLike[str]) -> Any:

@@ -8,6 +8,7 @@ from rich.text import Text
 from textual.app import ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Vertical
+from textual.keys import format_key
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
@@ -20,9 +21,20 @@ def binding_rows(scopes: Iterable[tuple[str, Iterable[BindingType]]]) -> list[tu
             if not isinstance(b, Binding):
                 b = Binding(*b)
             desc = b.description or b.action
-            keys = ", ".join(k.strip() for k in b.key.split(","))
+            keys = ", ".join(key_name(k.strip()) for k in b.key.split(","))
             rows.append((where, keys, desc))
     return rows
+
+
+def key_name(key: str) -> str:
+    """A key as people write it: ``?``, ``[``, ``Ctrl+S``, ``Alt+1``, ``F2`` (not ``question_mark``)."""
+    *mods, base = key.split("+")
+    shown = format_key(base)
+    if len(shown) == 1 and mods:
+        shown = shown.upper()
+    elif len(shown) > 1:
+        shown = shown.upper() if shown.lower().startswith("f") and shown[1:].isdigit() else shown.capitalize()
+    return "+".join([m.capitalize() for m in mods] + [shown])
 
 
 class HelpScreen(ModalScreen[None]):

@@ -29,6 +29,7 @@ from .export import FORMATS, render, text_entry, write_file
 from .notebook import Entry, Notebook, now
 from .notebook_diff import diff_text, rerun
 from .notebook_jobs import BUSY_AFTER, NotebookJobs
+from .output_file import FileExistsUsageError
 from .pane_base import SessionChanged
 from .safe_text import visible
 
@@ -65,6 +66,8 @@ class NotebookPane(Vertical):
         self.session: Session | None = None
         self.where: Path | None = None
         self.jobs = NotebookJobs(self, path)
+        #: An export file that exists and that a second x (or Enter) replaces.
+        self.replace_ok: str | None = None
 
     def compose(self) -> ComposeResult:
         yield Static("", id="nbk-head", classes="message")
@@ -113,6 +116,8 @@ class NotebookPane(Vertical):
     def on_notebook_jobs_failed(self, msg: NotebookJobs.Failed) -> None:
         self.jobs.finished()
         self._head()
+        if isinstance(msg.error, FileExistsUsageError):
+            self.replace_ok = str(Path(self.query_one("#nbk-out", Input).value.strip()).expanduser())
         self.notify(visible(msg.error.message), title=msg.job.failed_title, severity="error", markup=False, timeout=15)
 
     def save(self, result: Result, session: Session) -> None:
@@ -265,9 +270,13 @@ class NotebookPane(Vertical):
             self.notify("type the file to write, then press Enter", markup=False)
             return
 
+        target = str(Path(out).expanduser())
+        force = self.replace_ok == target  # asked a second time for the same existing file: replace it
+        self.replace_ok = None
+
         def op(nb: Notebook) -> tuple[int | None, str]:
             entries = nb.entries()
-            p = write_file(Path(out).expanduser(), render(nb, fmt, now()))
+            p = write_file(target, render(nb, fmt, now()), force=force, how_to_force="press x again")
             return None, f"exported {len(entries)} entries to {p}"
 
         self.submit(op, "not exported")

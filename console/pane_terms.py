@@ -26,6 +26,7 @@ from wordkin.index.queries import Query, Result, TermsResult, TermSuggest
 
 from .notebook import Notebook, now, vector_set_info
 from .notebook_jobs import BUSY_AFTER, NotebookJobs
+from .output_file import FileExistsUsageError
 from .pane_base import QueryPane
 from .safe_text import visible
 from .terms import TermList, all_lists, create_list, decide, get_list, record_shown, rename_list, undo
@@ -61,6 +62,8 @@ class TermsPane(QueryPane):
         #: The candidates as the table shows them now: a decision takes its row out at once, so that keys pressed
         #: in quick succession act on the next candidates before the refreshed table arrives.
         self.shown: list[str] = []
+        #: An export file that exists and that a second x (or Enter) replaces.
+        self.replace_ok: str | None = None
 
     def compose(self) -> ComposeResult:
         with Horizontal(classes="options"):
@@ -119,6 +122,8 @@ class TermsPane(QueryPane):
     def on_notebook_jobs_failed(self, msg: NotebookJobs.Failed) -> None:
         self.jobs.finished()
         self.show_message(error_text(msg.error))
+        if isinstance(msg.error, FileExistsUsageError):
+            self.replace_ok = str(Path(self.query_one("#tm-out", Input).value.strip()).expanduser())
         self.notify(visible(msg.error.message), title=msg.job.failed_title, severity="error", markup=False)
 
     def job(self, op: Any, then: Any, title: str) -> None:
@@ -352,13 +357,16 @@ class TermsPane(QueryPane):
             return
         if self.term_list is None:
             return
-        name, fmt, path = self.term_list.name, str(self.query_one("#tm-format", Select).value), out.value.strip()
+        name, fmt = self.term_list.name, str(self.query_one("#tm-format", Select).value)
+        path = str(Path(out.value.strip()).expanduser())
+        force = self.replace_ok == path  # asked a second time for the same existing file: replace it
+        self.replace_ok = None
 
         def op(nb: Notebook) -> str:
             from .export import write_file
 
             tl = get_list(nb, name)
-            p = write_file(Path(path).expanduser(), render(tl, fmt, now()))
+            p = write_file(path, render(tl, fmt, now()), force=force, how_to_force="press x again")
             return f"exported {len(tl.terms)} terms of {tl.name} as {fmt} to {p}"
 
         self.job(op, lambda said: self.notify(visible(said), markup=False), "not exported")

@@ -21,7 +21,9 @@ from .pane_terms import TermsPane
 class PaneSpec:
     id: str
     label: str
-    keys: str  # Textual key names, comma-separated; the first is shown on the tab
+    keys: (
+        str  # Textual key names, comma-separated; the first is shown on the tab; Alt+letter (Esc, then the letter) for terminals without F-keys; Alt+digit is not used: Textual reads Esc+digit as macOS Option characters
+    )
     make: Callable[[str | None], Widget]  # from the notebook path
     focus: str  # the widget that gets the focus when the pane is opened
     bindings: Sequence[BindingType]
@@ -32,20 +34,23 @@ class PaneSpec:
         return f"{self.tab or self.label} {self.keys.split(',')[0].upper()}"
 
     def binding(self) -> Binding:
-        return Binding(self.keys, f"pane('{self.id}')", self.label, id=f"app.{self.id}")
+        # priority: an Alt+digit must switch panes even when a text box has the focus
+        return Binding(self.keys, f"pane('{self.id}')", self.label, id=f"app.{self.id}", priority=True)
 
 
 PANES: tuple[PaneSpec, ...] = (
     PaneSpec(
-        "neighbours", "Neighbours", "f2", lambda nb: NeighboursPane(), "#nb-word", NeighboursPane.BINDINGS, "Near"
+        "neighbours", "Neighbours", "f2,alt+n", lambda nb: NeighboursPane(), "#nb-word", NeighboursPane.BINDINGS, "Near"
     ),
-    PaneSpec("arith", "Arithmetic", "f3", lambda nb: ArithmeticPane(), "#ar-expr", ArithmeticPane.BINDINGS, "Calc"),
     PaneSpec(
-        "similarity", "Similarity", "f4", lambda nb: SimilarityPane(), "#sm-words", SimilarityPane.BINDINGS, "Sim"
+        "arith", "Arithmetic", "f3,alt+a", lambda nb: ArithmeticPane(), "#ar-expr", ArithmeticPane.BINDINGS, "Calc"
     ),
-    PaneSpec("notebook", "Notebook", "f5", lambda nb: NotebookPane(nb), "#nbk-list", NotebookPane.BINDINGS),
-    PaneSpec("terms", "Terms", "f6", lambda nb: TermsPane(nb), "#tm-table", TermsPane.BINDINGS),
-    PaneSpec("compare", "Compare", "f7", lambda nb: ComparePane(), "#cmp-table", ComparePane.BINDINGS),
-    PaneSpec("checkup", "Checkup", "f8", lambda nb: CheckupPane(), "#chk-report-box", CheckupPane.BINDINGS),
+    PaneSpec(
+        "similarity", "Similarity", "f4,alt+s", lambda nb: SimilarityPane(), "#sm-words", SimilarityPane.BINDINGS, "Sim"
+    ),
+    PaneSpec("notebook", "Notebook", "f5,alt+b", lambda nb: NotebookPane(nb), "#nbk-list", NotebookPane.BINDINGS),
+    PaneSpec("terms", "Terms", "f6,alt+t", lambda nb: TermsPane(nb), "#tm-table", TermsPane.BINDINGS),
+    PaneSpec("compare", "Compare", "f7,alt+o", lambda nb: ComparePane(), "#cmp-table", ComparePane.BINDINGS),
+    PaneSpec("checkup", "Checkup", "f8,alt+k", lambda nb: CheckupPane(), "#chk-report-box", CheckupPane.BINDINGS),
 )
 BY_ID = {p.id: p for p in PANES}

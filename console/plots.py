@@ -8,6 +8,7 @@ import re
 from pathlib import Path
 from typing import Any
 
+from .output_file import write_output
 from .safe_text import visible
 
 BLOCKS = " ▏▎▍▌▋▊▉█"
@@ -75,6 +76,6 @@ def write_svgs(result: Any, folder: str) -> list[Path]:
     for title, h in result.histograms():
         slug = re.sub(r"[^a-z0-9]+", "-", title.lower()).strip("-")[:40]
         p = d / f"{result.query.kind}-{slug}.svg"
-        p.write_text(svg(title, h), encoding="utf-8")
+        write_output(p, svg(title, h), force=True)
         out.append(p)
     return out

@@ -85,4 +85,8 @@ def score_text(res) -> str:  # type: ignore[no-untyped-def]
         return "\n".join(lines) + "\n"
     rho = "-" if res.spearman is None else f"{res.spearman:.4f}"
     r = "-" if res.pearson is None else f"{res.pearson:.4f}"
-    return f"pairs {res.pairs}, used {res.used}, skipped {res.pairs - res.used}\nSpearman rho {rho}\nPearson r    {r}\n"
+    out = f"pairs {res.pairs}, used {res.used}, skipped {res.pairs - res.used}\n"
+    if res.skipped_lines:
+        n = res.skipped_lines
+        out += f"skipped: {n} malformed line{'s' if n != 1 else ''}, first at line {res.first_skipped}\n"
+    return out + f"Spearman rho {rho}\nPearson r    {r}\n"

@@ -42,6 +42,15 @@ async def shoot(out: Path) -> list[Path]:
         await save("similarity")
         await pilot.press("ctrl+s", "f5")
         await save("notebook")
+        await pilot.press("f6", "n")
+        app.query_one("#tm-hide").value = True  # type: ignore[attr-defined]
+        app.query_one("#tm-name").value = "lodging: hotel inn hostel"  # type: ignore[attr-defined]
+        await pilot.press("enter")
+        await pilot.pause(0.6)
+        for key in ("k", "down", "d", "k", "k"):
+            await pilot.press(key)
+            await pilot.pause(0.4)
+        await save("terms")
     return saved
 
 

@@ -110,8 +110,11 @@ def detect(path: str | os.PathLike[str], *, trust_pickle: bool = False) -> Detec
     if head.startswith(b"\x93NUMPY"):
         words = _words_file_for(p) if p.name.endswith(".npy") else None
         if words is None:
+            stem = p.name[: -len(".npy")] if p.name.endswith(".npy") else p.stem
             raise UnreadableFileError(
-                str(p), "a .npy matrix needs its words beside it (NAME.words.txt, one word per line)"
+                str(p),
+                f"a .npy matrix needs its words beside it: {p.with_name(stem + '.words.txt')} was not found"
+                " (one word per line; .words, .vocab and .txt are looked for too)",
             )
         try:
             arr = np.load(p, mmap_mode="r", allow_pickle=False)

@@ -364,7 +364,7 @@ def _benchmark_deltas(old: VectorSet, new: VectorSet, pairs: tuple[str, ...], an
     both = set(old.words) & set(new.words)
     with tempfile.TemporaryDirectory(prefix="wordkin-compare-") as tmp:
         for p in pairs:
-            kept = [f"{a}\t{b}\t{s!r}" for _n, a, b, s in read_pairs(p) if a in both and b in both]
+            kept = [f"{a}\t{b}\t{s!r}" for _n, a, b, s in read_pairs(p)[0] if a in both and b in both]
             f = Path(tmp) / "pairs.tsv"
             f.write_text("\n".join(kept) + "\n", encoding="utf-8")
             o, n = score_pairs(old, f), score_pairs(new, f)

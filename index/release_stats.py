@@ -15,6 +15,8 @@ from .store import VectorSet
 
 #: Queries per block of the blocked search: 128 x 400k float32 scores is 200 MB.
 BLOCK = 128
+#: Columns sampled per block to bound each row's k-th best score (see ``knn_blocks``).
+SAMPLE_COLUMNS = 8192
 
 
 @dataclass(frozen=True)
@@ -109,24 +111,48 @@ def knn_blocks(
     cancel: CancelFn | None = None,
 ) -> Iterator[tuple[int, NDArray[np.int64]]]:
     """Exact k nearest neighbours of query rows, a block at a time: yields ``(offset, rows (block, k))``, best
-    first. A query never answers itself; zero rows and rows not ``allowed`` never answer. One matrix product per
-    block over the memory-mapped unit matrix."""
+    first. A query never answers itself; zero rows and rows not ``allowed`` never answer.
+
+    One matrix product per block over the memory-mapped unit matrix, into one reused buffer. The top k of a row
+    is found without partitioning the whole row: the k-th best score among a fixed sample of columns is a lower
+    bound for the row's k-th best, so only the columns at or above it (about k x n / sample of them) are sorted.
+    Exact, not an approximation: every column that can be in the top k passes the bound.
+    """
     n = vs.n
     blocked = np.zeros(n, dtype=bool) if allowed is None else ~allowed
     if len(vs.zero_rows):
         blocked[vs.zero_rows] = True
     bad = np.flatnonzero(blocked)
     k = min(k, n - 1)
+    unit = np.asarray(vs.unit)
+    buf = np.empty((min(BLOCK, max(1, len(queries))), n), dtype=np.float32)
+    open_cols = np.flatnonzero(~blocked)
+    sample = np.sort(np.random.default_rng(7).choice(open_cols, min(len(open_cols), SAMPLE_COLUMNS), replace=False))
     for s in range(0, len(queries), BLOCK):
         check(cancel)
         q = queries[s : s + BLOCK]
-        scores = np.asarray(vs.unit[q]) @ np.asarray(vs.unit).T
+        m = len(q)
+        scores = buf[:m]
+        np.dot(unit[q], unit.T, out=scores)
         if len(bad):
             scores[:, bad] = -np.inf
-        scores[np.arange(len(q)), q] = -np.inf
-        part = np.argpartition(-scores, k - 1, axis=1)[:, :k]
-        top = np.take_along_axis(scores, part, axis=1)
-        order = np.argsort(-top, axis=1, kind="stable")
-        yield s, np.take_along_axis(part, order, axis=1).astype(np.int64)
+        scores[np.arange(m), q] = -np.inf
+        rows = np.empty((m, k), dtype=np.int64)
+        sub = scores[:, sample]
+        # k + 1: a query's own column may be in the sample (it is -inf there), so take one more to stay a bound.
+        kk = min(k + 1, sub.shape[1])
+        bound = np.partition(sub, sub.shape[1] - kk, axis=1)[:, sub.shape[1] - kk]
+        for i in range(m):
+            row = scores[i]
+            if np.isfinite(bound[i]):
+                cand = np.flatnonzero(row >= bound[i])
+            else:
+                cand = np.flatnonzero(np.isfinite(row))
+            if len(cand) < k:  # too few above the bound (many blocked columns): take the whole row
+                cand = np.argpartition(row, n - k)[n - k :]
+            vals = row[cand]
+            top = np.argsort(-vals, kind="stable")[:k]
+            rows[i] = cand[top]
+        yield s, rows
         if progress is not None:
             progress(min(s + BLOCK, len(queries)), len(queries), stage)

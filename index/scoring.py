@@ -13,6 +13,7 @@ that is not a case variant of a question word is the prediction. Whole sections 
 
 from __future__ import annotations
 
+import re
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -88,6 +89,8 @@ class PairScore:
     spearman: float | None
     pearson: float | None
     details: tuple[tuple[str, str, float, float | None], ...] = field(default=(), repr=False)
+    skipped_lines: int = 0  # malformed lines skipped
+    first_skipped: int | None = None
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -97,6 +100,8 @@ class PairScore:
             "oov": self.pairs - self.used,
             "spearman": self.spearman,
             "pearson": self.pearson,
+            "skipped_lines": self.skipped_lines,
+            "first_skipped_line": self.first_skipped,
         }
 
 
@@ -212,34 +217,48 @@ def _answer_chunk(cand: np.ndarray, fid: np.ndarray, zero: np.ndarray, q: np.nda
     return int(np.count_nonzero(fid[pred] == fid[d]))
 
 
-def read_pairs(path: str | Path) -> list[tuple[int, str, str, float]]:
+def read_pairs(path: str | Path) -> tuple[list[tuple[int, str, str, float]], int, int | None]:
+    """``(pairs, skipped lines, first skipped line)``. Fields are separated by runs of tabs (the RG-65 file as
+    commonly distributed has doubled tabs) or, without a tab, by spaces. A line that still has the wrong number of
+    fields, or a score that is not a finite number, is skipped and counted; a file with no usable line at all is an
+    error naming its first bad line."""
     p = Path(path)
     try:
         text = p.read_bytes().decode("utf-8", "replace")
     except OSError as exc:
         raise UnreadableFileError(str(p), f"cannot read: {exc.strerror or exc}") from None
     out = []
+    skipped = 0
+    first_bad: tuple[int, str] | None = None
     for no, line in enumerate(text.splitlines(), 1):
         s = line.strip()
         if not s or s.startswith("#"):
             continue
-        parts = s.split("\t") if "\t" in s else s.split()
-        parts = [x.strip() for x in parts]
+        parts = [x.strip() for x in (re.split(r"\t+", s) if "\t" in s else s.split())]
+        problem = None
+        score = 0.0
         if len(parts) != 3:
-            raise UnreadableFileError(str(p), f"expected two words and a score, found {len(parts)} fields", line=no)
-        try:
-            score = float(parts[2])
-        except ValueError:
-            raise UnreadableFileError(str(p), f"the score {parts[2][:40]!r} is not a number", line=no) from None
-        if not np.isfinite(score):
-            raise UnreadableFileError(str(p), f"the score {parts[2]!r} is not a finite number", line=no)
+            problem = f"expected two words and a score, found {len(parts)} fields"
+        else:
+            try:
+                score = float(parts[2])
+                if not np.isfinite(score):
+                    problem = f"the score {parts[2]!r} is not a finite number"
+            except ValueError:
+                problem = f"the score {parts[2][:40]!r} is not a number"
+        if problem is not None:
+            skipped += 1
+            first_bad = first_bad or (no, problem)
+            continue
         out.append((no, parts[0], parts[1], score))
-    return out
+    if not out and first_bad is not None:
+        raise UnreadableFileError(str(p), first_bad[1] + " (and no line of the file is usable)", line=first_bad[0])
+    return out, skipped, first_bad[0] if first_bad else None
 
 
 def score_pairs(vs: VectorSet, path: str | Path, *, top: int = 300_000, case_fold: bool = False) -> PairScore:
     _check_top(top)
-    pairs = read_pairs(path)
+    pairs, skipped, first_skipped = read_pairs(path)
     ok, _ = vocabulary(vs, top, case_fold)
     gold: list[float] = []
     model: list[float] = []
@@ -261,4 +280,4 @@ def score_pairs(vs: VectorSet, path: str | Path, *, top: int = 300_000, case_fol
 
         rho = float(stats.spearmanr(gold, model).statistic)
         r = float(stats.pearsonr(gold, model).statistic)
-    return PairScore(str(path), len(pairs), len(gold), rho, r, tuple(details))
+    return PairScore(str(path), len(pairs), len(gold), rho, r, tuple(details), skipped, first_skipped)

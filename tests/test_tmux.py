@@ -142,3 +142,25 @@ def test_term_list_built_and_exported_at_80x24(tmux, tmp_path):
     assert text.splitlines()[-1] == f"hotel, inn, {first}" and second not in text.splitlines()[-1]
     tmux.keys("C-q")
     tmux.wait("EXIT=0")
+
+
+def test_every_pane_reachable_without_function_keys(tmux, tmp_path):
+    from wordkin.demo_vectors import demo_path
+
+    tmux.start("open", str(demo_path()), "--notebook", str(tmp_path / "nb.wkn"))
+    tmux.wait("5,310 words")
+    # Alt+letter (Esc then the letter, which every terminal and multiplexer passes on) opens each pane.
+    marks = [
+        ("M-s", "words to compare"),
+        ("M-a", "paris - france + italy"),
+        ("M-b", "notebook "),
+        ("M-t", "no term lists yet"),
+        ("M-o", "open with --against OLD"),
+        ("M-k", "Ctrl+R runs the check-up"),
+        ("M-n", "a word, then Enter"),
+    ]
+    for key, text in marks:
+        tmux.keys(key)
+        tmux.wait(text)
+    tmux.keys("C-q")
+    tmux.wait("EXIT=0")
