@@ -23,12 +23,13 @@ from wordkin.index.session import Session
 from wordkin.index.store import open_vectors
 
 from .help_screen import HelpScreen, binding_rows
+from .keymap import binding_ids, load_keymap
 from .pane_base import QueryPane, SessionChanged, VocabView
-from .pane_notebook import NotebookPane
+from .pane_notebook import NotebookPane, NoteInput
 from .panes import BY_ID, PANES
 from .safe_text import visible
 from .status_line import StatusLine
-from .widgets import completion_list
+from .widgets import WordInput, completion_list
 
 
 class WordkinApp(App[int]):
@@ -99,7 +100,9 @@ class WordkinApp(App[int]):
         self.notebook_path = notebook
         self.build_index = build_index
         self.session: Session | None = None
-        self.vocab = VocabView({}, [])
+        self.keymap_in_force: dict[str, str] = {}
+        self.keymap_warning = ""
+        self.vocab = VocabView({}, None)
 
     def compose(self) -> ComposeResult:
         with TabbedContent(initial=PANES[0].id):
@@ -115,6 +118,7 @@ class WordkinApp(App[int]):
         status = self.query_one(StatusLine)
         status.source = os.path.basename(self.path)
         status.mode = "loading…"
+        self.apply_keymap()
         self.query_one(PANES[0].focus).focus()
         self.load_vectors()
 
@@ -189,7 +193,7 @@ class WordkinApp(App[int]):
         status.summary = f"· {vs.n:,} words · {vs.dims} dims"
         if session.against is not None:
             status.summary += f" · vs {os.path.basename(str(session.against.source))}"
-        notices = list(vs.warnings)
+        notices = ([self.keymap_warning] if self.keymap_warning else []) + list(vs.warnings)
         if session.state is IndexState.REJECTED:
             notices.append(f"index rejected ({session.reason}); rebuilding it")
         status.notice = "; ".join(notices)[:200]
@@ -226,7 +230,8 @@ class WordkinApp(App[int]):
     def on_wordkin_app_index_ready(self, msg: IndexReady) -> None:
         self.query_one(StatusLine).idle()
         if self.session is not None:
-            self.query_one(StatusLine).notice = "; ".join(self.session.vectors.warnings)[:200]
+            notices = ([self.keymap_warning] if self.keymap_warning else []) + list(self.session.vectors.warnings)
+            self.query_one(StatusLine).notice = "; ".join(notices)[:200]
             self.publish(self.session.with_state(IndexState.READY, msg.index))
 
     def on_wordkin_app_index_failed(self, msg: IndexFailed) -> None:
@@ -243,6 +248,14 @@ class WordkinApp(App[int]):
             self.query_one(StatusLine).notice = text
             self.notify(visible(text), title="unexpected error", severity="error", timeout=30, markup=False)
 
+    def on_query_pane_open_requested(self, msg: QueryPane.OpenRequested) -> None:
+        for spec in PANES:
+            pane = self.query_one(f"#pane-{spec.id}")
+            if isinstance(pane, QueryPane) and pane.kind.kind == msg.query.kind:
+                self.action_pane(spec.id)
+                pane.load_query(msg.query)
+                return
+
     def on_query_pane_save_requested(self, msg: QueryPane.SaveRequested) -> None:
         self.query_one(NotebookPane).save(msg.result, msg.session)
 
@@ -253,10 +266,25 @@ class WordkinApp(App[int]):
         # Synchronously: Widget.focus() defers, and keys typed right after a pane key would go to the hidden pane.
         self.screen.set_focus(self.query_one(BY_ID[pane].focus))
 
+    def binding_scopes(self) -> list[tuple[str, Any]]:
+        scopes: list[tuple[str, Any]] = [("global", self.BINDINGS)]
+        scopes += [(p.label.lower(), p.bindings) for p in PANES]
+        scopes += [("query panes", QueryPane.BINDINGS), ("boxes", WordInput.BINDINGS + NoteInput.BINDINGS)]
+        return scopes + [("help", HelpScreen.BINDINGS)]
+
+    def apply_keymap(self) -> None:
+        """The user's keymap file, if any: applied, and anything left out of it said once."""
+        keymap, warning = load_keymap(binding_ids(b for _, b in self.binding_scopes()))
+        self.keymap_in_force = keymap
+        self.keymap_warning = warning
+        if keymap:
+            self.set_keymap(keymap)
+        if warning:
+            self.query_one(StatusLine).notice = warning
+            self.notify(visible(warning), title="keymap", severity="warning", timeout=15, markup=False)
+
     def action_help(self) -> None:
-        scopes = [("global", self.BINDINGS)] + [(p.label.lower(), p.bindings) for p in PANES]
-        scopes.append(("query panes", QueryPane.BINDINGS))
-        self.push_screen(HelpScreen(binding_rows([*scopes, ("help", HelpScreen.BINDINGS)])))
+        self.push_screen(HelpScreen(binding_rows(self.binding_scopes(), self.keymap_in_force)))
 
     def action_screenshot_svg(self) -> None:
         path = self.save_screenshot(path=os.environ.get("WORDKIN_SCREENSHOTS", "."))

@@ -51,6 +51,11 @@ def _near_args(p: argparse.ArgumentParser) -> None:
 
 def _subwords_arg(p: argparse.ArgumentParser) -> None:
     p.add_argument(
+        "--exact-word",
+        action="store_true",
+        help="look words up only as typed (not as NFC, case-folded or with spaces as _)",
+    )
+    p.add_argument(
         "--no-subwords",
         dest="subwords",
         action="store_false",
@@ -72,7 +77,7 @@ def _check_k_top(a: argparse.Namespace) -> None:
 
 def _near(a: argparse.Namespace) -> Query:
     _check_k_top(a)
-    return Neighbours(a.word, a.k, a.top, a.hide_forms, a.fold_case, a.exact, a.subwords)
+    return Neighbours(a.word, a.k, a.top, a.hide_forms, a.fold_case, a.exact, a.subwords, a.exact_word)
 
 
 def _near_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -88,6 +93,7 @@ def _near_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *_flag(q.fold_case, "--fold-case"),
         *_flag(q.exact, "--exact"),
         *_flag(not q.subwords, "--no-subwords"),
+        *_flag(q.exact_word, "--exact-word"),
     ]
 
 
@@ -103,7 +109,7 @@ def _calc_args(p: argparse.ArgumentParser) -> None:
 
 def _calc(a: argparse.Namespace) -> Query:
     _check_k_top(a)
-    return Arithmetic(a.expr, a.k, a.method, a.top, a.keep_inputs, a.exact, a.subwords)
+    return Arithmetic(a.expr, a.k, a.method, a.top, a.keep_inputs, a.exact, a.subwords, a.exact_word)
 
 
 def _calc_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -120,6 +126,7 @@ def _calc_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *_flag(q.keep_inputs, "--keep-inputs"),
         *_flag(q.exact, "--exact"),
         *_flag(not q.subwords, "--no-subwords"),
+        *_flag(q.exact_word, "--exact-word"),
     ]
 
 
@@ -129,12 +136,12 @@ def _sim_args(p: argparse.ArgumentParser) -> None:
 
 
 def _sim(a: argparse.Namespace) -> Query:
-    return Similarity(tuple(a.words), a.subwords)
+    return Similarity(tuple(a.words), a.subwords, a.exact_word)
 
 
 def _sim_argv(q: Query, file: str, scratch: Path) -> list[str]:
     assert isinstance(q, Similarity)
-    return ["sim", file, *_flag(not q.subwords, "--no-subwords"), *q.words]
+    return ["sim", file, *_flag(not q.subwords, "--no-subwords"), *_flag(q.exact_word, "--exact-word"), *q.words]
 
 
 def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
@@ -170,6 +177,7 @@ def _terms_argv(q: Query, file: str, scratch: Path) -> list[str]:
         *(["--exclude", q.exclude] if q.exclude else []),
         *_flag(q.exact, "--exact"),
         *_flag(not q.subwords, "--no-subwords"),
+        *_flag(q.exact_word, "--exact-word"),
     ]
 
 

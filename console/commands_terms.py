@@ -54,6 +54,7 @@ def add_parser(sub: Any, shared: Any) -> None:
         action="store_false",
         help="fastText .bin: list words not in the vocabulary are errors, not built from their n-grams",
     )
+    v.add_argument("--exact-word", action="store_true", help="look list words up only as typed")
     v.add_argument("--json", action="store_true")
     v.add_argument("--save", action="store_true", help="also save the candidate table as a notebook entry")
     shared(v)
@@ -148,6 +149,7 @@ def t_suggest(args: argparse.Namespace) -> int:
         exclude=args.exclude,
         exact=args.exact,
         subwords=args.subwords,
+        exact_word=args.exact_word,
     )
     res = q.run(session)
     assert isinstance(res, TermsResult)

@@ -54,10 +54,10 @@ def _vector_set(e: Entry) -> str:
     )
 
 
-def text_entry(e: Entry, number: int) -> str:
-    """One entry as fixed-width plain text."""
-    out = [
-        f"#{number}  {visible(e.title)}",
+def text_entry(e: Entry, number: int, *, result_first: bool = False) -> str:
+    """One entry as fixed-width plain text (``result_first``: the result's table before where it came from)."""
+    head = [f"#{number}  {visible(e.title)}"]
+    meta = [
         f"    saved       {e.created}",
         f"    vector set  {_vector_set(e)}",
         f"    parameters  {visible(_params(e))}",
@@ -67,9 +67,9 @@ def text_entry(e: Entry, number: int) -> str:
         import textwrap
 
         lines = [w for x in note.splitlines() for w in (textwrap.wrap(visible(x), 56) or [""])] or [""]
-        out.append(f"    note        {lines[0]}")
-        out.extend(f"                {x}" for x in lines[1:])
-    out.append("")
+        meta.append(f"    note        {lines[0]}")
+        meta.extend(f"                {x}" for x in lines[1:])
+    out = head + ([] if result_first else meta + [""])
     for caption, table in e.result.tables():
         if caption:
             out.append("    " + visible(caption))
@@ -78,6 +78,8 @@ def text_entry(e: Entry, number: int) -> str:
         else:
             out.append("    (no results)")
     out.extend("    " + visible(n) for n in e.result.notes())
+    if result_first:
+        out += [""] + meta
     return "\n".join(out) + "\n"
 
 

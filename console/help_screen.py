@@ -12,18 +12,34 @@ from textual.keys import format_key
 from textual.screen import ModalScreen
 from textual.widgets import DataTable, Static
 
+#: Keys that are not bindings but that people need to know: Enter on tables, completion, the map's arrows.
+OTHER_KEYS = [
+    ("near", "Enter (on a result)", "that word's neighbours (drill down); Ctrl+B comes back to the row"),
+    ("near", "Tab, → (in the box)", "take the first completion shown under the box"),
+    ("near", "↓ (in the box)", "to the results"),
+    ("calc", "Enter (on a result)", "that word's neighbours, in the Near pane"),
+    ("sim", "arrows (on the map)", "move between cells: the pair's cosine and ranks above the map"),
+    ("compare", "Enter (on a word)", "its old and new neighbour lists"),
+    ("notebook", "Esc (in the note)", "cancel the edit; moving away saves it"),
+    ("all", "Tab, Shift+Tab", "next / previous box"),
+]
 
-def binding_rows(scopes: Iterable[tuple[str, Iterable[BindingType]]]) -> list[tuple[str, str, str]]:
-    """``(where, keys, what)`` for every binding with a description, in declaration order."""
+
+def binding_rows(
+    scopes: Iterable[tuple[str, Iterable[BindingType]]], keymap: dict[str, str] | None = None
+) -> list[tuple[str, str, str]]:
+    """``(where, keys, what)`` for every binding with a description, in declaration order, with the keys in force
+    (``keymap``: binding id -> keys, the user's remapping)."""
     rows = []
     for where, bindings in scopes:
         for b in bindings:
             if not isinstance(b, Binding):
                 b = Binding(*b)
             desc = b.description or b.action
-            keys = ", ".join(key_name(k.strip()) for k in b.key.split(","))
+            key = (keymap or {}).get(b.id or "", b.key)
+            keys = ", ".join(key_name(k.strip()) for k in key.split(","))
             rows.append((where, keys, desc))
-    return rows
+    return rows + OTHER_KEYS
 
 
 def key_name(key: str) -> str:

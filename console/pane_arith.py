@@ -10,11 +10,11 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
-from textual.widgets import Checkbox, Input, Label, Select, Static
+from textual.widgets import Checkbox, DataTable, Input, Label, Select, Static
 
 from wordkin.index.errors import UsageError, WordkinError
 from wordkin.index.expr import ExprError, parse, to_text, words_of
-from wordkin.index.queries import Arithmetic, CalcResult, Query, Result
+from wordkin.index.queries import Arithmetic, CalcResult, Neighbours, Query, Result
 
 from .pane_base import QueryPane
 from .safe_text import visible
@@ -44,7 +44,7 @@ class ArithmeticPane(QueryPane):
             yield Checkbox("keep inputs", id="ar-keep")
             yield Checkbox("exact", id="ar-exact")
         yield Static("", id="ar-message", classes="message")
-        yield NeighbourTable(id="ar-table")
+        yield NeighbourTable(id="ar-table", mutual=False)
 
     # -- the query value -------------------------------------------------------------------------------
 
@@ -60,11 +60,13 @@ class ArithmeticPane(QueryPane):
             self.query_one("#ar-keep", Checkbox).value,
             self.query_one("#ar-exact", Checkbox).value,
             self.subwords,
+            self.exact_word,
         )
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Arithmetic)
         self.subwords = query.subwords
+        self.exact_word = query.exact_word
         values = {
             "#ar-expr": query.expression,
             "#ar-k": str(query.k),
@@ -131,6 +133,15 @@ class ArithmeticPane(QueryPane):
     def _option_changed(self) -> None:
         if self.query_one("#ar-expr", Input).value.strip():
             self.submit()
+
+    @on(DataTable.RowSelected, "#ar-table")
+    def _open_word(self, event: DataTable.RowSelected) -> None:
+        """Enter on an answer opens that word's neighbours."""
+        res = self.result
+        if isinstance(res, CalcResult):
+            i = int(str(event.row_key.value))
+            if i < len(res.rows):
+                self.post_message(self.OpenRequested(Neighbours(res.rows[i].word, subwords=res.query.subwords)))
 
     # -- showing ---------------------------------------------------------------------------------------
 

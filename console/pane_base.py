@@ -9,7 +9,7 @@ posts ``SaveRequested`` and the app passes it on to the notebook.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import ClassVar
+from typing import Any, ClassVar
 
 from rich.text import Text
 from textual import work
@@ -29,7 +29,7 @@ class VocabView:
     typed escape maps back to the word (``escaped``); ``completion`` is the sorted displayable vocabulary."""
 
     escaped: dict[str, str]
-    completion: list[str]
+    completion: Any  # widgets.Completions (the vocabulary's prefix completion)
 
     def word(self, session: Session, text: str) -> str:
         """The vocabulary word behind ``text`` as typed or shown."""
@@ -57,7 +57,9 @@ class QueryPane(Vertical):
     slow: ClassVar[bool] = False
 
     BINDINGS = [
-        Binding("ctrl+g", "toggle_subwords", "Subwords on/off", id="query.subwords"),
+        # Not in the footer (it is short at 80 columns): the help (F1) lists them.
+        Binding("ctrl+g", "toggle_subwords", "Subwords on/off", show=False, id="query.subwords"),
+        Binding("ctrl+y", "toggle_exact_word", "Word variants on/off", show=False, id="query.variants"),
     ]
 
     class Answered(Message):
@@ -85,6 +87,13 @@ class QueryPane(Vertical):
         def can_replace(self, message: Message) -> bool:
             return isinstance(message, QueryPane.Progress)
 
+    class OpenRequested(Message):
+        """The user asked to see ``query`` in the pane of its kind (Enter on an answer of another pane)."""
+
+        def __init__(self, query: Query) -> None:
+            super().__init__()
+            self.query = query
+
     class SaveRequested(Message):
         """The user asked to save the result on screen to the notebook."""
 
@@ -102,6 +111,8 @@ class QueryPane(Vertical):
         #: fastText models: build words not in the vocabulary from their character n-grams (every query kind's
         #: ``subwords`` option; Ctrl+G turns it off and on).
         self.subwords = True
+        #: Look words up only as typed (every kind's ``exact_word``; Ctrl+Y): no NFC, case or spaces-as-_ variants.
+        self.exact_word = False
 
     # -- to be provided by each pane -------------------------------------------------------------------------
 
@@ -188,6 +199,13 @@ class QueryPane(Vertical):
         self.subwords = not self.subwords
         state = "on" if self.subwords else "off: words not in the vocabulary are errors"
         self.notify(f"subwords {state}", markup=False)
+        if self.asked is not None:
+            self.submit()
+
+    def action_toggle_exact_word(self) -> None:
+        self.exact_word = not self.exact_word
+        state = "off: words are looked up as typed" if self.exact_word else "on (NFC, case, spaces as _)"
+        self.notify(f"word variants {state}", markup=False)
         if self.asked is not None:
             self.submit()
 

@@ -11,6 +11,7 @@ from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.message import Message
+from textual.timer import Timer
 from textual.widgets import Checkbox, DataTable, Input, Label, Static
 
 from wordkin.index.errors import UsageError, WordkinError
@@ -20,7 +21,7 @@ from wordkin.index.session import Session
 
 from .pane_base import QueryPane
 from .safe_text import visible
-from .widgets import NeighbourTable, VocabSuggester, error_text, int_option, int_value, word_text
+from .widgets import NeighbourTable, WordInput, error_text, int_option, int_value, word_text
 
 
 class NeighboursPane(QueryPane):
@@ -55,11 +56,16 @@ class NeighboursPane(QueryPane):
     def __init__(self, **kw: object) -> None:
         super().__init__(**kw)
         self.history: list[Neighbours] = []
+        #: For each history entry, the results row the user drilled down from (Back puts the cursor there).
+        self.drilled_from: list[int | None] = []
         self.position = -1
         self.marks: list[bool] = []
+        self.restore_row: int | None = None
+        self._rerun_timer: Timer | None = None
 
     def compose(self) -> ComposeResult:
-        yield Input(placeholder="a word, then Enter  (e.g. harbour)", id="nb-word")
+        yield WordInput(placeholder="a word, then Enter  (e.g. harbour)", id="nb-word")
+        yield Static("", id="nb-complete", classes="line")
         with Horizontal(classes="options"):
             yield Label("k")
             yield Input("10", id="nb-k", type="integer", classes="small")
@@ -79,7 +85,7 @@ class NeighboursPane(QueryPane):
             self.query_one(NeighbourTable).add_comparison_columns()
             self.query_one("#nb-compare", Static).display = True
         if self.vocab is not None:
-            self.query_one("#nb-word", Input).suggester = VocabSuggester(self.vocab.completion)
+            self.query_one("#nb-word", WordInput).completions = self.vocab.completion
 
     # -- the query value -------------------------------------------------------------------------------
 
@@ -95,6 +101,7 @@ class NeighboursPane(QueryPane):
             self.query_one("#nb-fold", Checkbox).value,
             self.query_one("#nb-exact", Checkbox).value,
             self.subwords,
+            self.exact_word,
         )
 
     def load_query(self, query: Query) -> None:
@@ -105,6 +112,7 @@ class NeighboursPane(QueryPane):
 
     def _set_widgets(self, q: Neighbours) -> None:
         self.subwords = q.subwords
+        self.exact_word = q.exact_word
         values = {"#nb-word": visible(q.word), "#nb-k": str(q.k), "#nb-top": "" if q.top is None else str(q.top)}
         for sel, value in values.items():
             box = self.query_one(sel, Input)
@@ -117,9 +125,13 @@ class NeighboursPane(QueryPane):
                 with cb.prevent(Checkbox.Changed):
                     cb.value = flag
 
-    def _record(self, q: Neighbours) -> None:
+    def _record(self, q: Neighbours, from_row: int | None = None) -> None:
         del self.history[self.position + 1 :]
+        del self.drilled_from[self.position + 1 :]
+        if self.position >= 0 and from_row is not None:
+            self.drilled_from[self.position] = from_row
         self.history.append(q)
+        self.drilled_from.append(None)
         self.position = len(self.history) - 1
 
     # -- actions ---------------------------------------------------------------------------------------
@@ -130,6 +142,7 @@ class NeighboursPane(QueryPane):
     def action_back(self) -> None:
         if self.position > 0:
             self.position -= 1
+            self.restore_row = self.drilled_from[self.position]
             self._set_widgets(self.history[self.position])
             self.ask(self.history[self.position])
 
@@ -156,6 +169,34 @@ class NeighboursPane(QueryPane):
         if self.query_one("#nb-word", Input).value.strip():
             self._submitted(None)  # type: ignore[arg-type]
 
+    @on(Input.Changed, "#nb-k, #nb-top")
+    def _number_changed(self, event: Input.Changed) -> None:
+        """Editing k or top asks again after a short pause (no Enter needed)."""
+        if self.result is None:
+            return
+        if self._rerun_timer is not None:
+            self._rerun_timer.stop()
+        self._rerun_timer = self.set_timer(0.4, lambda: self._submitted(None))  # type: ignore[arg-type]
+
+    @on(Input.Changed, "#nb-word")
+    def _complete(self, event: Input.Changed) -> None:
+        box = self.query_one("#nb-word", WordInput)
+        cands = box.completions.candidates(event.value.strip()) if box.completions is not None else []
+        line = Text(no_wrap=True, overflow="ellipsis")
+        if cands:
+            line.append("Tab: ", style="dim")
+            line.append(cands[0], style="bold")
+            for c in cands[1:]:
+                line.append("  ·  ", style="dim")
+                line.append(c)
+        self.query_one("#nb-complete", Static).update(line)
+
+    @on(WordInput.ToResults)
+    def _to_results(self, event: WordInput.ToResults) -> None:
+        table = self.query_one(NeighbourTable)
+        if table.row_count:
+            table.focus()
+
     @on(DataTable.RowSelected, "#nb-table")
     def _drill(self, event: DataTable.RowSelected) -> None:
         res = self.result
@@ -171,15 +212,24 @@ class NeighboursPane(QueryPane):
                 False,
                 res.query.exact,
                 res.query.subwords,
+                res.query.exact_word,
             )
-            self.load_query(q)
+            self._set_widgets(q)
+            self._record(q, from_row=i)
+            self.ask(q)
 
     # -- showing ---------------------------------------------------------------------------------------
 
     def show_result(self, result: Result) -> None:
         assert isinstance(result, NeighbourResult)
         self.marks = []
-        self.query_one(NeighbourTable).show(result.rows)
+        table = self.query_one(NeighbourTable)
+        table.show(result.rows)
+        self.query_one("#nb-complete", Static).update("")
+        if self.restore_row is not None and self.restore_row < table.row_count:
+            table.move_cursor(row=self.restore_row)
+            table.focus()
+        self.restore_row = None
         opts = ", ".join(result.query.options())
         how = "index" if result.mode == "ann" else "exact"
         head = Text.assemble(

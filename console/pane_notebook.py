@@ -37,6 +37,18 @@ from .safe_text import visible
 Operation = Callable[[Notebook], tuple[int | None, str]]
 
 
+class NoteInput(Input):
+    """The note box: Esc drops the edit."""
+
+    BINDINGS = [Binding("escape", "cancel", "Cancel the edit", id="notebook.note_cancel")]
+
+    def action_cancel(self) -> None:
+        for pane in self.ancestors:
+            if isinstance(pane, NotebookPane):
+                pane.cancel_note()
+                return
+
+
 class NotebookPane(Vertical):
     """Entries of the notebook file; every change is committed before the pane shows it."""
 
@@ -68,13 +80,15 @@ class NotebookPane(Vertical):
         self.jobs = NotebookJobs(self, path)
         #: An export file that exists and that a second x (or Enter) replaces.
         self.replace_ok: str | None = None
+        self.note_entry: int | None = None  # the entry whose note is in the note box
+        self.note_dirty = False
 
     def compose(self) -> ComposeResult:
         yield Static("", id="nbk-head", classes="message")
         yield DataTable(id="nbk-list", cursor_type="row", zebra_stripes=True)
         with VerticalScroll(id="nbk-detail-box"):
             yield Static("", id="nbk-detail")
-        yield Input(placeholder="note for the selected entry (Enter saves)", id="nbk-note")
+        yield NoteInput(placeholder="note for the selected entry (Enter saves, Esc cancels)", id="nbk-note")
         with Horizontal(classes="options"):
             yield Label("export")
             yield Select([(f, f) for f in FORMATS], value="md", allow_blank=False, id="nbk-format")
@@ -176,17 +190,55 @@ class NotebookPane(Vertical):
         return self.entries[t.cursor_row]
 
     def _show(self, e: Entry, extra: str = "") -> None:
-        body = text_entry(e, e.id or 0)
-        self.query_one("#nbk-detail", Static).update(Text(body + ("\n" + extra if extra else "")))
+        # The result first (at 80x24 its rows must show), then where it came from; long lines are cut, not wrapped.
+        body = text_entry(e, e.id or 0, result_first=True)
+        lines = (body + ("\n" + extra if extra else "")).splitlines()
+        detail = Text("\n").join(Text(x) for x in lines)
+        detail.no_wrap = True
+        detail.overflow = "ellipsis"
+        self.query_one("#nbk-detail", Static).update(detail)
         note = self.query_one("#nbk-note", Input)
         with note.prevent(Input.Changed):
             note.value = visible(e.note)
+        self.note_entry = e.id
+        self.note_dirty = False
 
     @on(DataTable.RowHighlighted, "#nbk-list")
     def _highlight(self, event: DataTable.RowHighlighted) -> None:
+        self._save_pending_note()
         e = self.selected()
         if e is not None:
             self._show(e)
+
+    @on(Input.Changed, "#nbk-note")
+    def _note_edited(self, event: Input.Changed) -> None:
+        self.note_dirty = True
+
+    def _save_pending_note(self) -> None:
+        """A note typed but not saved is saved when the selection moves, and said (never dropped silently)."""
+        if not self.note_dirty or self.note_entry is None:
+            return
+        entry_id, text = self.note_entry, self.query_one("#nbk-note", Input).value
+        self.note_dirty = False
+
+        def op(nb: Notebook) -> tuple[int | None, str]:
+            nb.set_note(entry_id, text)
+            return None, f"note of entry {entry_id} saved"
+
+        self.submit(op, "note not saved")
+
+    def cancel_note(self) -> None:
+        """Esc in the note box: the edit is dropped, the stored note comes back."""
+        e = self.selected()
+        if e is not None:
+            self._show(e)
+        self.query_one("#nbk-list", DataTable).focus()
+
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        """The letter keys act on the list: while a text box has the focus they are its letters, not shown."""
+        if action in {"edit_note", "delete", "undo", "rerun", "export"} and isinstance(self.app.focused, Input):
+            return False
+        return True
 
     # -- actions ---------------------------------------------------------------------------------------------
 
@@ -199,6 +251,7 @@ class NotebookPane(Vertical):
         if e is None or e.id is None:
             return
         entry_id, text = e.id, event.value
+        self.note_dirty = False
 
         def op(nb: Notebook) -> tuple[int | None, str]:
             nb.set_note(entry_id, text)
@@ -277,7 +330,8 @@ class NotebookPane(Vertical):
         def op(nb: Notebook) -> tuple[int | None, str]:
             entries = nb.entries()
             p = write_file(target, render(nb, fmt, now()), force=force, how_to_force="press x again")
-            return None, f"exported {len(entries)} entries to {p}"
+            n = len(entries)
+            return None, f"exported {n} entr{'y' if n == 1 else 'ies'} to {p}"
 
         self.submit(op, "not exported")
 

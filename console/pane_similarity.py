@@ -49,18 +49,19 @@ class SimilarityPane(QueryPane):
     def compose(self) -> ComposeResult:
         yield Input(placeholder="words to compare, e.g.  hotel inn hostel ferry", id="sm-words")
         yield Static("", id="sm-message", classes="message")
-        yield DataTable(id="sm-table", cursor_type="cell")
         yield Static("", id="sm-pair", classes="message")
+        yield DataTable(id="sm-table", cursor_type="cell")
 
     def current_query(self) -> Similarity:
         words = tuple(self.word(w) for w in split_words(self.query_one("#sm-words", Input).value))
         if not words:
             raise UsageError("type two or more words")
-        return Similarity(words, self.subwords)
+        return Similarity(words, self.subwords, self.exact_word)
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Similarity)
         self.subwords = query.subwords
+        self.exact_word = query.exact_word
         self.query_one("#sm-words", Input).value = " ".join(
             f'"{visible_word(w)}"' if (" " in w or "," in w) else visible_word(w) for w in query.words
         )
@@ -80,7 +81,9 @@ class SimilarityPane(QueryPane):
         table.clear(columns=True)
         table.add_column(Text(""), key="word")
         for j, w in enumerate(res.words):
-            table.add_column(Text(visible_word(w)[:CELL], no_wrap=True), key=f"c{j}", width=CELL)
+            name = visible_word(w)
+            head = name if len(name) <= CELL else name[: CELL - 1] + "…"  # cut with an ellipsis, not silently
+            table.add_column(Text(head, no_wrap=True), key=f"c{j}", width=CELL)
         for i, w in enumerate(res.words):
             odd = w == res.odd_one_out
             label = Text("◆ " if odd else "  ", style="bold magenta")
@@ -100,13 +103,19 @@ class SimilarityPane(QueryPane):
             t.append(f" (cosine {res.odd_scores[i]:.3f} to the mean of the others)")
         self.show_message(t)
         table.focus()
+        # The first cell off the diagonal: row 0, column 2 (column 0 holds the words).
+        table.move_cursor(row=0, column=2 if len(res.words) > 1 else 1)
 
     @on(DataTable.CellHighlighted, "#sm-table")
     def _pair(self, event: DataTable.CellHighlighted) -> None:
         res = self.result
         if not isinstance(res, SimilarityResult):
             return
-        i, j = event.coordinate.row, event.coordinate.column - 1
+        table = self.query_one("#sm-table", DataTable)
+        i, j = table.cursor_coordinate.row, table.cursor_coordinate.column - 1
+        if j < 0:  # the words' column is a label, not a cell: arrows move between cells only
+            table.move_cursor(row=i, column=1)
+            return
         pair = self.query_one("#sm-pair", Static)
         if j < 0 or i >= len(res.words) or j >= len(res.words) or i == j or not res.pair_ranks:
             pair.update("")

@@ -206,12 +206,14 @@ class TermsPane(QueryPane):
             exclude=self.query_one("#tm-exclude", Input).value,
             exact=self.query_one("#tm-exact", Checkbox).value,
             subwords=self.subwords,
+            exact_word=self.exact_word,
         )
 
     def load_query(self, query: Query) -> None:
         """Show a saved suggestion: its list's state and every option (decisions need the list in the notebook)."""
         assert isinstance(query, TermSuggest)
         self.subwords = query.subwords
+        self.exact_word = query.exact_word
         values = {
             "#tm-k": str(query.k),
             "#tm-gamma": f"{query.gamma:g}",

@@ -21,9 +21,9 @@ from .pane_terms import TermsPane
 class PaneSpec:
     id: str
     label: str
-    keys: (
-        str  # Textual key names, comma-separated; the first is shown on the tab; Alt+letter (Esc, then the letter) for terminals without F-keys; Alt+digit is not used: Textual reads Esc+digit as macOS Option characters
-    )
+    #: Textual key names, comma-separated; the first is shown on the tab. Alt+letter (Esc, then the letter) is
+    #: for terminals without F-keys; Alt+digit is not used: Textual reads Esc+digit as macOS Option characters.
+    keys: str
     make: Callable[[str | None], Widget]  # from the notebook path
     focus: str  # the widget that gets the focus when the pane is opened
     bindings: Sequence[BindingType]
@@ -35,7 +35,11 @@ class PaneSpec:
 
     def binding(self) -> Binding:
         # priority: an Alt+digit must switch panes even when a text box has the focus
-        return Binding(self.keys, f"pane('{self.id}')", self.label, id=f"app.{self.id}", priority=True)
+        first, *rest = self.keys.split(",")
+        shown = "/".join([first] + [k.replace("alt+", "M-") for k in rest])  # the footer shows both: f2/M-n
+        return Binding(
+            self.keys, f"pane('{self.id}')", self.label, id=f"app.{self.id}", priority=True, key_display=shown
+        )
 
 
 PANES: tuple[PaneSpec, ...] = (

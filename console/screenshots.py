@@ -54,10 +54,26 @@ async def shoot(out: Path) -> list[Path]:
     return saved
 
 
+async def shoot_large(out: Path) -> Path:
+    """One larger screenshot (120x36): the neighbours pane with room to spare."""
+    from wordkin.demo_vectors import demo_path
+
+    from .app import create_app
+
+    app = create_app(str(demo_path()), notebook=str(Path(tempfile.mkdtemp()) / "demo.wkn"))
+    async with app.run_test(size=(120, 36)) as pilot:
+        while app.session is None or app.session.state.value in ("building", "empty"):
+            await pilot.pause(0.1)
+        await pilot.press(*"harbour", "enter")
+        await pilot.pause(0.6)
+        return Path(app.save_screenshot(filename="neighbours-120x36.svg", path=str(out)))
+
+
 def main() -> None:
     out = Path(sys.argv[1]) if len(sys.argv) > 1 else OUT
     for p in asyncio.run(shoot(out)):
         print(p)
+    print(asyncio.run(shoot_large(out)))
 
 
 if __name__ == "__main__":

@@ -8,8 +8,12 @@ from __future__ import annotations
 
 import bisect
 from collections.abc import Sequence
+from typing import Any
 
+import numpy as np
 from rich.text import Text
+from textual.binding import Binding
+from textual.message import Message
 from textual.suggester import Suggester
 from textual.widgets import DataTable, Input
 
@@ -93,13 +97,79 @@ def int_value(box: Input, name: str, default: int) -> int:
     return default if v is None else v
 
 
-def completion_list(words: Sequence[str]) -> list[str]:
-    """The sorted, displayable vocabulary for ``VocabSuggester``: slow for big sets, so built in the load worker."""
-    return sorted(visible(w) for w in words if w)
+class Completions:
+    """Prefix completion over the displayable vocabulary: candidates come out most frequent first.
+
+    Built once in the load worker (sorting a million words takes a while); a keystroke costs a bisection and a
+    sort of at most ``SPAN`` frequency ranks.
+    """
+
+    SPAN = 5000
+
+    def __init__(self, words: Sequence[str]) -> None:
+        pairs = sorted((visible(w), i) for i, w in enumerate(words) if w)
+        self.words = [w for w, _ in pairs]
+        self.ranks = np.fromiter((i for _, i in pairs), dtype=np.int64, count=len(pairs))
+
+    def candidates(self, prefix: str, limit: int = 6) -> list[str]:
+        if not prefix:
+            return []
+        lo = bisect.bisect_left(self.words, prefix)
+        hi = bisect.bisect_left(self.words, prefix + "\U0010ffff", lo, min(len(self.words), lo + self.SPAN))
+        order = lo + np.argsort(self.ranks[lo:hi], kind="stable")
+        return [self.words[i] for i in order if self.words[i] != prefix][:limit]
+
+
+def completion_list(words: Sequence[str]) -> Completions:
+    """The vocabulary's completions: slow for big sets, so built in the load worker."""
+    return Completions(words)
+
+
+class WordInput(Input):
+    """The query box: Tab (or Right at the end) takes the first completion, Down goes to the results."""
+
+    BINDINGS = [
+        Binding("tab", "accept", "Complete", show=False, id="input.complete"),
+        Binding("down", "to_results", "To the results", show=False, id="input.results"),
+    ]
+
+    class ToResults(Message):
+        """Down was pressed in the box."""
+
+    def __init__(self, *args: Any, **kw: Any) -> None:
+        super().__init__(*args, **kw)
+        self.completions: Completions | None = None
+
+    def first_candidate(self) -> str | None:
+        if self.completions is None:
+            return None
+        c = self.completions.candidates(self.value.strip(), 1)
+        return c[0] if c else None
+
+    def action_accept(self) -> None:
+        first = self.first_candidate()
+        if first is None:
+            self.screen.focus_next()
+            return
+        self.value = first
+        self.cursor_position = len(first)
+
+    def action_cursor_right(self, select: bool = False) -> None:
+        if self.cursor_at_end and not select and self.first_candidate() is not None:
+            self.action_accept()
+            return
+        super().action_cursor_right(select)
+
+    def action_to_results(self) -> None:
+        self.post_message(self.ToResults())
 
 
 class NeighbourTable(DataTable[Text]):
-    """Rank, word, score and a bar; an optional mark column (mutual neighbours)."""
+    """Rank, word, score and a bar; a mark column (mutual neighbours) where ``mutual``."""
+
+    def __init__(self, *args: Any, mutual: bool = True, **kw: Any) -> None:
+        super().__init__(*args, **kw)
+        self.mutual = mutual
 
     def on_mount(self) -> None:
         self.cursor_type = "row"
@@ -108,7 +178,8 @@ class NeighbourTable(DataTable[Text]):
         self.add_column(Text("word"), key="word")
         self.add_column(Text("score"), key="score", width=7)
         self.add_column(Text(""), key="bar", width=BAR_WIDTH)
-        self.add_column(Text("mutual"), key="mark", width=6)
+        if self.mutual:
+            self.add_column(Text("mutual"), key="mark", width=6)
 
     def show(self, rows: Sequence[Neighbour], marks: Sequence[bool] | None = None) -> None:
         self.clear()
@@ -121,7 +192,7 @@ class NeighbourTable(DataTable[Text]):
                 word_text(r.word),
                 Text(f"{r.similarity:.3f}", justify="right"),
                 bar(r.similarity),
-                mark,
+                *([mark] if self.mutual else []),
                 *([Text(""), Text("")] if "change" in self.columns else []),
                 key=str(i),
             )

@@ -15,7 +15,7 @@ from .analogy import EPSILON, as_expression, mul_scores, mul_top, vector_of
 from .errors import UsageError
 from .expr import Analogy, parse, quote_word, signed_words, to_text, words_of
 from .query_base import Diff, Query, Result, Table, option_field, rank_diff, register
-from .results import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json
+from .results import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json, variant_note
 from .search import check_k, check_top, rank_in, rank_of, top_for_vector, unit_query
 from .session import Session
 
@@ -37,6 +37,8 @@ class CalcResult(Result):
     target_similarity: float | None = None
     elapsed_ms: float = 0.0
     subwords: tuple[SubwordWord, ...] = ()  # input words a fastText model built from their n-grams
+    #: words answered by a variant: (as typed, the vocabulary word, how) — see ``VectorSet.find_variant``
+    variants: tuple[tuple[str, str, str], ...] = ()
 
     @property
     def score_label(self) -> str:
@@ -51,6 +53,7 @@ class CalcResult(Result):
             "excluded": list(self.excluded),
             "options": self.query.to_json(),
             "query_vector": "subwords" if self.subwords else "vocabulary",
+            "variants": [list(v) for v in self.variants],
             "results": rows_to_json(self.rows),
         }
         if self.subwords:
@@ -73,6 +76,7 @@ class CalcResult(Result):
             t.get("word"),
             t.get("rank"),
             t.get("similarity"),
+            variants=tuple(tuple(v) for v in d.get("variants", [])),
             subwords=tuple(SubwordWord.from_json(x) for x in d.get("subwords", [])),
         )
 
@@ -85,6 +89,7 @@ class CalcResult(Result):
 
     def notes(self) -> list[str]:
         out = [s.note() for s in self.subwords]
+        out += [variant_note(*v) for v in self.variants]
         if self.excluded:
             out.append("excluded: " + ", ".join(self.excluded))
         if self.target is not None:
@@ -116,6 +121,7 @@ class Arithmetic(Query):
     keep_inputs: bool = option_field((False, True), default=False)
     exact: bool = option_field((False, True), default=False)
     subwords: bool = option_field((True, False), default=True)
+    exact_word: bool = option_field((False, True), default=False)
 
     def title(self) -> str:
         return self.expression
@@ -137,6 +143,8 @@ class Arithmetic(Query):
             out.append("exact search")
         if not self.subwords:
             out.append("no subwords")
+        if self.exact_word:
+            out.append("exact words")
         return out
 
     def run(self, session: Session, *, epsilon: float = EPSILON) -> CalcResult:
@@ -150,7 +158,7 @@ class Arithmetic(Query):
         top = check_top(self.top, vs)
         words = words_of(tree)
         # Unknown words fail here with close matches, or (fastText models) are built from their n-grams.
-        found_words = {w: vs.word_vector(w, subwords=self.subwords) for w in words}
+        found_words = {w: vs.word_vector(w, subwords=self.subwords, variants=not self.exact_word) for w in words}
         rows = [wv.row for wv in found_words.values() if wv.row is not None]
         exclude = [] if self.keep_inputs else rows
         target = tree.d.text if isinstance(tree, Analogy) and tree.d is not None else None
@@ -198,4 +206,5 @@ class Arithmetic(Query):
             t_sim,
             (time.perf_counter() - t0) * 1000,
             from_subwords,
+            tuple((w, wv.matched, wv.form) for w, wv in found_words.items() if wv.form),
         )

@@ -70,7 +70,8 @@ class NeighbourResult(Result):
     def notes(self) -> list[str]:
         out = [self.subword.note()] if self.subword is not None else []
         if self.word != self.query.word and self.subword is None:
-            out.append(f"answered as {self.word!r} (fold case)")
+            how = "fold case" if self.query.fold_case else "a variant: NFC, case or spaces as _"
+            out.append(f"{self.query.word}: answered as {self.word} ({how})")
         if not self.rows:
             out.append("no neighbours: the word's vector is all zeros")
         return out
@@ -95,6 +96,7 @@ class Neighbours(Query):
     fold_case: bool = option_field((False, True), default=False)
     exact: bool = option_field((False, True), default=False)
     subwords: bool = option_field((True, False), default=True)
+    exact_word: bool = option_field((False, True), default=False)
 
     def title(self) -> str:
         return f"neighbours of {self.word}"
@@ -113,6 +115,8 @@ class Neighbours(Query):
             out.append("exact search")
         if not self.subwords:
             out.append("no subwords")
+        if self.exact_word:
+            out.append("exact word")
         return out
 
     def run(self, session: Session) -> NeighbourResult:
@@ -123,13 +127,18 @@ class Neighbours(Query):
         r = vs.find_folded(self.word) if self.fold_case else vs.find(self.word)
         subword = None
         if r is None:
-            # Not in the vocabulary: built from its n-grams (fastText), or UnknownWordError with close matches.
-            wv = vs.word_vector(self.word, subwords=self.subwords)
-            q, word, exclude = wv.vector, self.word, []
-            subword = SubwordWord(wv.word, wv.known, wv.ngrams, wv.close)
-        elif vs.is_zero(r):
-            return NeighbourResult(self, vs.words[r], "exact", (), k, (time.perf_counter() - t0) * 1000)
-        else:
+            # Not as typed: a variant (NFC, case, spaces as _), built from its n-grams (fastText), or
+            # UnknownWordError with close matches.
+            wv = vs.word_vector(self.word, subwords=self.subwords, variants=not self.exact_word)
+            if wv.row is not None:
+                r = wv.row
+            else:
+                q, word, exclude = wv.vector, self.word, []
+                subword = SubwordWord(wv.word, wv.known, wv.ngrams, wv.close)
+        if subword is None:
+            assert r is not None
+            if vs.is_zero(r):
+                return NeighbourResult(self, vs.words[r], "exact", (), k, (time.perf_counter() - t0) * 1000)
             q, word, exclude = np.asarray(vs.unit[r], dtype=np.float32), vs.words[r], [r]
         ann = session.ann(self.exact)
         mode = "exact" if self.exact else "auto"

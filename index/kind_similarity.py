@@ -11,7 +11,7 @@ import numpy as np
 
 from .errors import UsageError
 from .query_base import Diff, Query, Result, Table, option_field, register
-from .results import SubwordWord
+from .results import SubwordWord, variant_note
 from .session import Session
 
 MAX_WORDS = 500
@@ -30,6 +30,8 @@ class SimilarityResult(Result):
     elapsed_ms: float = 0.0
     mode: str = "exact"
     subwords: tuple[SubwordWord, ...] = ()  # words a fastText model built from their n-grams
+    #: words answered by a variant: (as typed, the vocabulary word, how) — see ``VectorSet.find_variant``
+    variants: tuple[tuple[str, str, str], ...] = ()
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -40,6 +42,7 @@ class SimilarityResult(Result):
             "pair_ranks": [list(r) for r in self.pair_ranks],
             "options": self.query.to_json(),
             "query_vector": "subwords" if self.subwords else "vocabulary",
+            "variants": [list(v) for v in self.variants],
             "subwords": [s.to_json() for s in self.subwords],
         }
 
@@ -53,6 +56,7 @@ class SimilarityResult(Result):
             d.get("odd_one_out"),
             tuple(float(x) for x in d.get("odd_scores", [])),
             tuple(tuple(None if x is None else int(x) for x in r) for r in d.get("pair_ranks", [])),
+            variants=tuple(tuple(v) for v in d.get("variants", [])),
             subwords=tuple(SubwordWord.from_json(x) for x in d.get("subwords", [])),
         )
 
@@ -76,6 +80,7 @@ class SimilarityResult(Result):
 
     def notes(self) -> list[str]:
         out = [s.note() for s in self.subwords]
+        out += [variant_note(*v) for v in self.variants]
         if self.odd_one_out is None:
             return out
         i = self.words.index(self.odd_one_out)
@@ -114,12 +119,13 @@ class Similarity(Query):
 
     words: tuple[str, ...]
     subwords: bool = option_field((True, False), default=True)
+    exact_word: bool = option_field((False, True), default=False)
 
     def title(self) -> str:
         return "similarity of " + ", ".join(self.words)
 
     def options(self) -> list[str]:
-        return [] if self.subwords else ["no subwords"]
+        return ([] if self.subwords else ["no subwords"]) + (["exact words"] if self.exact_word else [])
 
     @classmethod
     def example(cls, words: list[str]) -> Similarity:
@@ -139,7 +145,8 @@ class Similarity(Query):
             if w in seen:
                 raise UsageError(f"{w!r} is listed twice")
             seen.add(w)
-        found = [vs.word_vector(w, subwords=self.subwords) for w in words]  # unknown: n-grams or close matches
+        # Unknown words: a variant, n-grams (fastText) or close matches.
+        found = [vs.word_vector(w, subwords=self.subwords, variants=not self.exact_word) for w in words]
         rows: list[int | None] = [wv.row for wv in found]
         m = np.stack([wv.vector for wv in found]).astype(np.float32)
         mat = m @ m.T
@@ -179,4 +186,5 @@ class Similarity(Query):
             tuple(tuple(r) for r in pair_ranks),
             (time.perf_counter() - t0) * 1000,
             subwords=tuple(SubwordWord(wv.word, wv.known, wv.ngrams, wv.close) for wv in found if wv.row is None),
+            variants=tuple((wv.word, wv.matched, wv.form) for wv in found if wv.form),
         )

@@ -133,6 +133,7 @@ class TermSuggest(Query):
     exclude: str = option_field(("", "s$"), default="")
     exact: bool = option_field((False, True), default=False)
     subwords: bool = option_field((True, False), default=True)
+    exact_word: bool = option_field((False, True), default=False)
 
     @property
     def members(self) -> tuple[str, ...]:
@@ -161,6 +162,8 @@ class TermSuggest(Query):
             out.append("exact search")
         if not self.subwords:
             out.append("no subwords")
+        if self.exact_word:
+            out.append("exact words")
         return out
 
     def run(self, session: Session) -> TermsResult:
@@ -178,8 +181,8 @@ class TermSuggest(Query):
         include = _regex(self.include, "include")
         exclude = _regex(self.exclude, "exclude")
         # Unknown words: UnknownWordError with close matches, or (fastText) built from their character n-grams.
-        members_v = [vs.word_vector(w, subwords=self.subwords) for w in self.members]
-        dropped_v = [vs.word_vector(w, subwords=self.subwords) for w in self.dropped]
+        members_v = [vs.word_vector(w, subwords=self.subwords, variants=not self.exact_word) for w in self.members]
+        dropped_v = [vs.word_vector(w, subwords=self.subwords, variants=not self.exact_word) for w in self.dropped]
         decided_rows = sorted({r for r in (vs.find(w) for w in self.decided) if r is not None})
         q = feedback_vector([m.vector for m in members_v], [d.vector for d in dropped_v], self.gamma)
         ann = session.ann(self.exact)

@@ -59,3 +59,7 @@ class SubwordWord:
     def from_json(cls, d: dict[str, Any]) -> SubwordWord:
         n = d.get("ngrams", {})
         return cls(str(d["word"]), int(n.get("known", 0)), int(n.get("total", 0)), tuple(d.get("close_matches", [])))
+
+
+def variant_note(typed: str, matched: str, how: str) -> str:
+    return f"{typed}: not in the vocabulary as typed; answered as {matched} ({how})"

@@ -10,6 +10,7 @@ from __future__ import annotations
 import os
 import tempfile
 import time
+import unicodedata
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -37,6 +38,10 @@ class WordVector:
     known: int = 0
     ngrams: int = 0
     close: tuple[str, ...] = ()
+    #: How a vocabulary word answered when the word as typed is not in the vocabulary: "NFC", "case-folded" or
+    #: "spaces as _" (``matched`` is that word); "" when it answered as typed.
+    form: str = ""
+    matched: str = ""
 
 
 @dataclass
@@ -112,12 +117,32 @@ class VectorSet:
     def is_zero(self, row: int) -> bool:
         return bool(self.norms[row] == 0)
 
-    def word_vector(self, word: str, *, subwords: bool = True) -> WordVector:
-        """``word``'s unit vector: its row if it is in the vocabulary; else, for a fastText model and unless
-        ``subwords`` is false, the mean of its character n-gram rows, normalised; else ``UnknownWordError``."""
+    def find_variant(self, word: str) -> tuple[int, str] | None:
+        """The row of ``word`` as typed, else of its first variant in the vocabulary: Unicode NFC, then
+        case-folded (the most frequent case variant), then with spaces as ``_`` (how multi-word phrases are
+        stored in the usual files, ``new_york``). Returns ``(row, how)``, ``how`` empty when found as typed."""
         r = self.find(word)
         if r is not None:
-            return WordVector(word, np.asarray(self.unit[r], dtype=np.float32), r)
+            return r, ""
+        nfc = unicodedata.normalize("NFC", word)
+        if nfc != word and (r := self.find(nfc)) is not None:
+            return r, "NFC"
+        if (r := self.find_folded(nfc)) is not None:
+            return r, "case-folded"
+        if " " in nfc.strip():
+            joined = "_".join(nfc.split())
+            if (r := self.find(joined)) is not None or (r := self.find_folded(joined)) is not None:
+                return r, "spaces as _"
+        return None
+
+    def word_vector(self, word: str, *, subwords: bool = True, variants: bool = True) -> WordVector:
+        """``word``'s unit vector: its row if it is in the vocabulary (or, with ``variants``, a variant's: see
+        ``find_variant``); else, for a fastText model and unless ``subwords`` is false, the mean of its character
+        n-gram rows, normalised; else ``UnknownWordError`` with close matches."""
+        found = self.find_variant(word) if variants else ((r, "") if (r := self.find(word)) is not None else None)
+        if found is not None:
+            r, how = found
+            return WordVector(word, np.asarray(self.unit[r], dtype=np.float32), r, form=how, matched=self.words[r])
         from .suggest import close_matches
 
         close = close_matches(self.words, word)

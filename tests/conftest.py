@@ -21,6 +21,7 @@ def _private_cache(tmp_path_factory: pytest.TempPathFactory):
     old = os.environ.get("WORDKIN_CACHE")
     os.environ["WORDKIN_CACHE"] = str(root)
     os.environ.setdefault("WORDKIN_DATA", str(tmp_path_factory.mktemp("wordkin-data")))
+    os.environ["WORDKIN_CONFIG"] = str(tmp_path_factory.mktemp("wordkin-config"))  # no user keymap in tests
     yield root
     if old is None:
         os.environ.pop("WORDKIN_CACHE", None)

@@ -134,4 +134,7 @@ def test_fold_case_answers_the_folded_word(capsys):
     assert rc == 0
     out = json.loads(capsys.readouterr().out)
     assert out["query"] == "HOTEL" and out["word"] == "hotel"
-    assert cli_main(["near", str(demo_path()), "HOTEL"]) == 3
+    assert cli_main(["near", str(demo_path()), "HOTEL", "--exact-word"]) == 3
+    capsys.readouterr()
+    assert cli_main(["near", str(demo_path()), "HOTEL", "--json"]) == 0  # a variant: case-folded
+    assert json.loads(capsys.readouterr().out)["word"] == "hotel"

@@ -122,9 +122,15 @@ def test_term_list_built_and_exported_at_80x24(tmux, tmp_path):
     for ch in "lodging: hotel inn":
         tmux.keys("-l", ch)
     tmux.keys("Enter")
-    screen = tmux.wait("candidates ·")
+    tmux.wait("candidates ·")
+    end = time.monotonic() + 30
+    rows: list[str] = []
+    while len(rows) < 2 and time.monotonic() < end:  # the table may be drawn a moment after the message line
+        screen = tmux.screen()
+        lines = [ln.replace("█", " ").strip() for ln in screen.splitlines()]  # █: the focused table's edge
+        rows = [ln.split()[1] for ln in lines if ln[:1].isdigit() and len(ln.split()) > 3]
+        time.sleep(0.1)
     assert "lodging · 2 terms: hotel, inn" in screen, screen
-    rows = [ln.split()[1] for ln in screen.splitlines() if ln.strip()[:1].isdigit() and len(ln.split()) > 3]
     first, second = rows[0], rows[1]
     tmux.keys("k")  # keep the first candidate; the cursor stays on row 1, now the next word
     tmux.wait(f"3 terms: hotel, inn, {first}")
