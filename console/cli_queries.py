@@ -65,12 +65,8 @@ def _subwords_arg(p: argparse.ArgumentParser) -> None:
 
 def _check_k_top(a: argparse.Namespace) -> None:
     """The engine checks these too, in words for any front end; here they are named as the flags they are."""
-    from wordkin.index.search import MAX_K
-
     if a.k < 1:
         raise UsageError(f"-k must be a positive whole number, not {a.k}")
-    if a.k > MAX_K:
-        raise UsageError(f"-k is at most {MAX_K:,}, not {a.k:,}")
     if a.top is not None and a.top < 1:
         raise UsageError(f"--top must be a positive whole number, not {a.top}")
 

@@ -13,6 +13,7 @@ from typing import Any
 from wordkin.index.errors import UsageError
 from wordkin.index.expr import ExprError
 from wordkin.index.query_base import Result
+from wordkin.index.search import MAX_K
 from wordkin.index.session import Session
 
 from .cli_io import emit_json, note, open_session, open_set
@@ -27,6 +28,9 @@ def cmd_query(args: argparse.Namespace) -> int:
     assert build is not None
     query = build(args)
     session = open_session(args, want_index=not getattr(args, "exact", False))
+    k = getattr(args, "k", None)
+    if k is not None and k > MAX_K:
+        raise UsageError(f"-k is at most {MAX_K:,}, not {k:,} (the vocabulary has {session.vectors.n:,} words)")
     try:
         res = query.run(session)
     except ExprError as exc:
@@ -154,8 +158,11 @@ def cmd_prepare(args: argparse.Namespace) -> int:
     if args.no_cache:
         raise UsageError("prepare writes the cache; it cannot be used with --no-cache")
     vs = open_set(args)
-    if vs.cache_note == "hit":
-        note("cache ready (vectors already parsed)")
+    if vs.cache_note == "hit" and vs.cache_dir is not None:
+        import datetime
+
+        built = datetime.datetime.fromtimestamp((vs.cache_dir / "meta.json").stat().st_mtime).strftime("%Y-%m-%d %H:%M")
+        note(f"cache ready (built {built})")
     else:
         note(f"cache {vs.cache_note} ({vs.meta.parse_seconds} s to parse)")
     loaded = load(vs)

@@ -10,8 +10,10 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
+from textual import work
 from textual.message import Message
 from textual.widget import Widget
+from textual.worker import get_current_worker
 
 from wordkin.index.errors import WordkinError
 
@@ -77,3 +79,19 @@ class NotebookJobs:
                 self.owner.post_message(self.Failed(job, WordkinError(f"{type(exc).__name__}: {exc}")))
                 continue
             self.owner.post_message(self.Done(job, value))
+
+
+class NotebookJobsHost:
+    """Mixin for a widget with a ``jobs`` queue: the worker that serves it and the handler of what it finishes.
+    The widget handles ``NotebookJobs.Failed`` itself (where to say it differs from pane to pane)."""
+
+    jobs: NotebookJobs
+
+    @work(thread=True, exit_on_error=False, group="notebook-io", description="notebook reads and writes")
+    def notebook_io(self) -> None:
+        worker = get_current_worker()
+        self.jobs.serve(lambda: worker.is_cancelled)
+
+    def on_notebook_jobs_done(self, msg: NotebookJobs.Done) -> None:
+        self.jobs.finished()
+        msg.job.then(msg.value)

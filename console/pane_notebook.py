@@ -19,7 +19,6 @@ from textual.binding import Binding
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
 from textual.widgets import DataTable, Input, Label, Select, Static
-from textual.worker import get_current_worker
 
 from wordkin.index.errors import WordkinError
 from wordkin.index.query_base import Result
@@ -28,7 +27,7 @@ from wordkin.index.session import Session
 from .export import FORMATS, render, text_entry, write_file
 from .notebook import Entry, Notebook, now
 from .notebook_diff import diff_text, rerun
-from .notebook_jobs import BUSY_AFTER, NotebookJobs
+from .notebook_jobs import BUSY_AFTER, NotebookJobs, NotebookJobsHost
 from .output_file import FileExistsUsageError
 from .pane_base import SessionChanged
 from .safe_text import visible
@@ -49,7 +48,7 @@ class NoteInput(Input):
                 return
 
 
-class NotebookPane(Vertical):
+class NotebookPane(NotebookJobsHost, Vertical):
     """Entries of the notebook file; every change is committed before the pane shows it."""
 
     BINDINGS = [
@@ -117,15 +116,6 @@ class NotebookPane(Vertical):
 
         self.jobs.submit(run, self._loaded, failed_title)
         self.set_timer(BUSY_AFTER, self._head)
-
-    @work(thread=True, exit_on_error=False, group="notebook-io", description="notebook reads and writes")
-    def notebook_io(self) -> None:
-        worker = get_current_worker()
-        self.jobs.serve(lambda: worker.is_cancelled)
-
-    def on_notebook_jobs_done(self, msg: NotebookJobs.Done) -> None:
-        self.jobs.finished()
-        msg.job.then(msg.value)
 
     def on_notebook_jobs_failed(self, msg: NotebookJobs.Failed) -> None:
         self.jobs.finished()

@@ -13,19 +13,18 @@ from pathlib import Path
 from typing import Any, ClassVar
 
 from rich.text import Text
-from textual import on, work
+from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.widgets import Checkbox, DataTable, Input, Label, Select, Static
-from textual.worker import get_current_worker
 
 from wordkin.index.errors import UsageError, WordkinError
 from wordkin.index.kind_terms import DEFAULT_GAMMA, DEFAULT_SUPPORT_K
 from wordkin.index.queries import Query, Result, TermsResult, TermSuggest
 
 from .notebook import Notebook, now, vector_set_info
-from .notebook_jobs import BUSY_AFTER, NotebookJobs
+from .notebook_jobs import BUSY_AFTER, NotebookJobs, NotebookJobsHost
 from .output_file import FileExistsUsageError
 from .pane_base import QueryPane
 from .safe_text import visible
@@ -34,7 +33,7 @@ from .terms_export import FORMATS, render
 from .widgets import bar, error_text, int_option, int_value, word_text
 
 
-class TermsPane(QueryPane):
+class TermsPane(NotebookJobsHost, QueryPane):
     """Term lists: seeds, candidates with support, keep / drop / aside / undo, export."""
 
     kind: ClassVar[type[Query]] = TermSuggest
@@ -109,15 +108,6 @@ class TermsPane(QueryPane):
             self._refresh()
 
     # -- the notebook, off the UI thread ----------------------------------------------------------------------
-
-    @work(thread=True, exit_on_error=False, group="terms-io", description="term list reads and writes")
-    def notebook_io(self) -> None:
-        worker = get_current_worker()
-        self.jobs.serve(lambda: worker.is_cancelled)
-
-    def on_notebook_jobs_done(self, msg: NotebookJobs.Done) -> None:
-        self.jobs.finished()
-        msg.job.then(msg.value)
 
     def on_notebook_jobs_failed(self, msg: NotebookJobs.Failed) -> None:
         self.jobs.finished()
