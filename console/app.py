@@ -12,6 +12,7 @@ from typing import Any
 from textual import work
 from textual.app import App, ComposeResult
 from textual.binding import Binding
+from textual.css.query import NoMatches
 from textual.message import Message
 from textual.widgets import Footer, TabbedContent, TabPane
 from textual.worker import Worker, WorkerState, get_current_worker
@@ -127,9 +128,11 @@ class WordkinApp(App[int]):
     def publish(self, session: Session) -> None:
         """Make ``session`` current: every pane gets it, the status line says how queries are answered."""
         self.session = session
+        status = self.status()
+        if status is None:
+            return
         for spec in PANES:
             self.query_one(f"#pane-{spec.id}").post_message(SessionChanged(session, self.vocab))
-        status = self.query_one(StatusLine)
         status.mode = session.answering()
 
     @work(thread=True, exclusive=True, exit_on_error=False, group="load", description="load vectors")
@@ -176,8 +179,18 @@ class WordkinApp(App[int]):
     def _report_index(self, done: int, total: int, stage: str) -> None:
         self.post_message(self.IndexProgress(done, total, stage))
 
+    def status(self) -> StatusLine | None:
+        """The status line, or None while the app is not (or no longer) composed: a worker's last message can
+        arrive while the app shuts down."""
+        try:
+            return self.query_one(StatusLine)
+        except NoMatches:
+            return None
+
     def _show_progress(self, msg: LoadProgress, prefix: str = "") -> None:
-        status = self.query_one(StatusLine)
+        status = self.status()
+        if status is None:
+            return
         pct = f" {100 * msg.done // msg.total}%" if msg.total else ""
         status.mode = f"{prefix}{msg.stage}{pct}"
         status.progress(msg.done, msg.total)
@@ -189,7 +202,9 @@ class WordkinApp(App[int]):
         session = msg.session
         vs = session.vectors
         self.vocab = msg.vocab
-        status = self.query_one(StatusLine)
+        status = self.status()
+        if status is None:
+            return
         status.summary = f"· {vs.n:,} words · {vs.dims} dims"
         if session.against is not None:
             status.summary += f" · vs {os.path.basename(str(session.against.source))}"
@@ -206,7 +221,9 @@ class WordkinApp(App[int]):
             self.publish(session)
 
     def on_wordkin_app_load_failed(self, msg: LoadFailed) -> None:
-        status = self.query_one(StatusLine)
+        status = self.status()
+        if status is None:
+            return
         status.idle()
         status.mode = "not loaded"
         status.notice = msg.error.message
@@ -228,14 +245,19 @@ class WordkinApp(App[int]):
         self._show_progress(msg, "exact search · ")
 
     def on_wordkin_app_index_ready(self, msg: IndexReady) -> None:
-        self.query_one(StatusLine).idle()
+        status = self.status()
+        if status is None:
+            return
+        status.idle()
         if self.session is not None:
             notices = ([self.keymap_warning] if self.keymap_warning else []) + list(self.session.vectors.warnings)
-            self.query_one(StatusLine).notice = "; ".join(notices)[:200]
+            status.notice = "; ".join(notices)[:200]
             self.publish(self.session.with_state(IndexState.READY, msg.index))
 
     def on_wordkin_app_index_failed(self, msg: IndexFailed) -> None:
-        status = self.query_one(StatusLine)
+        status = self.status()
+        if status is None:
+            return
         status.idle()
         if self.session is not None:
             self.publish(self.session.with_state(IndexState.FAILED, reason=msg.reason))
@@ -245,7 +267,9 @@ class WordkinApp(App[int]):
         if event.state == WorkerState.ERROR and event.worker.error is not None:
             err = event.worker.error
             text = f"{event.worker.description or event.worker.name}: {type(err).__name__}: {err}"
-            self.query_one(StatusLine).notice = text
+            status = self.status()
+            if status is not None:
+                status.notice = text
             self.notify(visible(text), title="unexpected error", severity="error", timeout=30, markup=False)
 
     def on_query_pane_open_requested(self, msg: QueryPane.OpenRequested) -> None:

@@ -91,8 +91,14 @@ def info_dict(session: Session) -> dict[str, Any]:
             {
                 "trees": idx.trees,
                 "search_k": idx.search_k,
-                # recall@10 of the index after the exact re-rank, on a seeded sample of the vocabulary as queries
-                "recall_at_10": idx.recall_at_10,
+                # recall@10 of the index after the exact re-rank, with the most frequent words and with uniformly
+                # drawn words as queries (a seeded sample of each); an index built by wordkin 0.1 measured only the
+                # uniform sample ("frequent" is then null).
+                "recall_at_10": {
+                    "frequent": idx.recall_frequent or None,
+                    "random": idx.recall_random or idx.recall_at_10,
+                },
+                "queries_missing_a_neighbour": idx.missing_share if idx.recall_frequent else None,
                 "recall_sample": idx.recall_sample,
                 "calc_search_k": idx.calc_search_k,
             }
@@ -127,10 +133,16 @@ def _print_info(d: dict[str, Any]) -> None:
         f"cache    {visible(d['cache'] or 'off')}",
     ]
     if idx["state"] == "ready":
+        r = idx["recall_at_10"]
+        freq = "-" if r["frequent"] is None else f"{r['frequent']:.3f}"
+        lines.append(f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}")
         lines.append(
-            f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}, "
-            f"recall@10 {idx['recall_at_10']:.3f} (measured against exact search)"
+            f"recall   @10 against exact search: {freq} on the most frequent words, {r['random']:.3f} on random words"
         )
+        if idx.get("queries_missing_a_neighbour") is not None:
+            lines.append(
+                f"         {100 * idx['queries_missing_a_neighbour']:.1f}% of sample queries lose a true neighbour"
+            )
     elif idx["state"] == "rejected":
         lines.append(f"index    rejected: {visible(idx['reason'])} (`wordkin prepare` rebuilds it)")
     elif d["cache"]:

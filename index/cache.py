@@ -41,7 +41,10 @@ class IndexMeta:
     state: str = "empty"
     trees: int = 0
     search_k: int = 0
-    recall_at_10: float = 0.0
+    recall_at_10: float = 0.0  # the lower of the two samples' recall@10 (what the console and the tuning use)
+    recall_frequent: float = 0.0  # recall@10 with the most frequent words as queries
+    recall_random: float = 0.0  # recall@10 with uniformly drawn words as queries
+    missing_share: float = 0.0  # share of the sample's queries that lose at least one true neighbour
     recall_sample: int = 0
     query_ms_p50: float = 0.0
     calc_search_k: int | None = None

@@ -71,9 +71,9 @@ def build(
         build_s = time.perf_counter() - t0
         idx = _open_shards(vs.dims, tmps)
         report(0, 0, "index: measuring recall@10")
-        search_k, recall, p50 = choose_search_k(vs, idx, cancel=cancel)
+        est = choose_search_k(vs, idx, cancel=cancel)
         report(0, 0, "index: checking analogies")
-        calc_sk, agree = choose_calc_search_k(vs, idx, search_k, cancel=cancel)
+        calc_sk, agree = choose_calc_search_k(vs, idx, est.search_k, cancel=cancel)
         idx.unload()
         for i in range(n_shards, 4):
             (cache_dir / shard_file(i)).unlink(missing_ok=True)
@@ -87,10 +87,13 @@ def build(
     info = cache.IndexMeta(
         state="ready",
         trees=trees,
-        search_k=search_k,
-        recall_at_10=round(recall, 4),
+        search_k=est.search_k,
+        recall_at_10=round(est.worst, 4),
+        recall_frequent=round(est.frequent, 4),
+        recall_random=round(est.random, 4),
+        missing_share=round(est.missing, 4),
         recall_sample=RECALL_SAMPLE,
-        query_ms_p50=round(p50, 3),
+        query_ms_p50=round(est.p50_ms, 3),
         calc_search_k=calc_sk,
         calc_top1_agreement=round(agree, 4),
         build_seconds=round(build_s, 2),

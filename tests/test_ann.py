@@ -57,3 +57,34 @@ def test_child_process_build_and_cancel(tmp_path):
     with pytest.raises(CancelledError):
         build(vs, n_trees=4, in_process=False, cancel=lambda: True)
     assert not list(vs.cache_dir.glob(".annoy*tmp"))
+
+
+def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_path):
+    from wordkin.index.ann import RECALL_MARGIN, TARGET_RECALL, _open_shards
+    from wordkin.index.tuning import _truth, choose_search_k, measure_recall, recall_samples
+
+    n, d = 20_000, 48
+    x = structured_set(n, d, seed=5, clusters=400)
+    np.save(tmp_path / "w.npy", x)
+    (tmp_path / "w.words.txt").write_text("\n".join(f"w{i:05d}" for i in range(n)) + "\n")
+    vs = open_vectors(tmp_path / "w.npy", cache_root=tmp_path / "c")
+    frequent, random = recall_samples(vs)
+    assert list(frequent[:3]) == [0, 1, 2] and len(frequent) == len(random) == 500  # file order first
+    assert not set(frequent) & set(random)
+    # A deliberately weak index: one tree.
+    build(vs, n_trees=1)
+    idx = _open_shards(vs.dims, [vs.cache_dir / ann.INDEX_FILE])
+    truth = (_truth(vs, frequent, 10), _truth(vs, random, 10))
+    weak = measure_recall(vs, idx, 20, (frequent, random), truth)
+    assert weak.worst < TARGET_RECALL and weak.missing > 0.05  # reported below the target, per sample
+    tuned = choose_search_k(vs, idx)
+    assert tuned.search_k > 20 and tuned.worst > weak.worst
+    assert tuned.worst >= TARGET_RECALL + RECALL_MARGIN or tuned.search_k == max(ann.SEARCH_K_LADDER)
+    # The same vectors, the same choice (no timing decides).
+    assert choose_search_k(vs, idx).search_k == tuned.search_k
+    info = vs.meta.index
+    assert (
+        info.recall_frequent > 0
+        and info.recall_random > 0
+        and info.recall_at_10 == min(info.recall_frequent, info.recall_random)
+    )

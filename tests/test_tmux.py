@@ -127,7 +127,8 @@ def test_term_list_built_and_exported_at_80x24(tmux, tmp_path):
     tmux.wait("candidates ·")
     end = time.monotonic() + 30
     rows: list[str] = []
-    while len(rows) < 2 and time.monotonic() < end:  # the table may be drawn a moment after the message line
+    # The table may be drawn a moment after the message line, and its word column may still be narrow (hos…).
+    while (len(rows) < 2 or any(r.endswith("…") for r in rows)) and time.monotonic() < end:
         screen = tmux.screen()
         lines = [ln.replace("█", " ").strip() for ln in screen.splitlines()]  # █: the focused table's edge
         rows = [ln.split()[1] for ln in lines if ln[:1].isdigit() and len(ln.split()) > 3]

@@ -100,7 +100,8 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
     meta = json.loads(proc_rss([PY, "-m", "wordkin.console.cli", "info", str(files["text"]), "--json"], env)[2])
     rows.append(
         f"| {label} | `wordkin prepare` (annoy {meta['index']['trees']} trees, recall check) | {t_build:.1f} s "
-        f"| - | search_k {meta['index']['search_k']}, recall@10 {meta['index']['recall_at_10']} |"
+        f"| - | search_k {meta['index']['search_k']}, recall@10 frequent {meta['index']['recall_at_10']['frequent']} / "
+        f"random {meta['index']['recall_at_10']['random']} |"
     )
     # 3. Warm open to first answer: a second `wordkin near` against gensim's own memory-mapped native format.
     native = work / f"native-{label}.kv"
