@@ -49,19 +49,29 @@ class Check:
         return f"| {self.name} | {self.value:.3g}{self.unit} | {op} {self.target:g}{self.unit} | {'met' if self.ok else 'MISSED'} |"
 
 
+# A small launcher runs each measured command as its own child and reports that child's peak RSS. A child forked
+# straight from this harness would start from the harness's high-water mark (hundreds of MiB after generating a
+# set); forked from the launcher, it starts from the launcher's few MiB (the `python -c pass` row is that floor).
+LAUNCH = (
+    "import json, os, subprocess, sys\n"
+    "p = subprocess.Popen(sys.argv[1:])\n"
+    "_, st, ru = os.wait4(p.pid, 0)\n"
+    "print(json.dumps({'rc': os.waitstatus_to_exitcode(st), 'maxrss': ru.ru_maxrss * 1024}), file=sys.stderr)\n"
+)
+
+
 def proc_rss(cmd: list[str], env: dict[str, str] | None = None) -> tuple[float, int, str]:
-    """Wall time, peak RSS (bytes, from wait4) and stdout of a whole process."""
+    """Wall time, peak RSS of the command's own process (bytes) and its stdout."""
     e = dict(os.environ)
     if env:
         e.update(env)
     t0 = time.perf_counter()
-    p = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, env=e, cwd=ROOT)
-    out = p.stdout.read() if p.stdout else b""
-    _, status, ru = os.wait4(p.pid, 0)
+    p = subprocess.run([PY, "-c", LAUNCH, *cmd], capture_output=True, env=e, cwd=ROOT)
     dt = time.perf_counter() - t0
-    if status != 0:
-        raise SystemExit(f"failed ({status}): {' '.join(cmd)}")
-    return dt, ru.ru_maxrss * 1024, out.decode()
+    report = json.loads(p.stderr.decode().strip().splitlines()[-1])
+    if report["rc"] != 0:
+        raise SystemExit(f"failed ({report['rc']}): {' '.join(cmd)}")
+    return dt, int(report["maxrss"]), p.stdout.decode()
 
 
 def gensim_load(path: Path, binary: bool) -> list[str]:
@@ -83,6 +93,8 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
     cache = work / f"cache-{label}"
     env = {"WORDKIN_CACHE": str(cache)}
     # 1. Cold open: process start to a usable matrix (ours writes its cache on the way).
+    floor = proc_rss([PY, "-c", "pass"])[1]
+    rows.append(f"| {label} | peak RSS of `python -c pass` (the measurement's floor) | {floor / 2**20:.0f} MiB | - | |")
     for kind in ("text", "binary"):
         shutil.rmtree(cache, ignore_errors=True)
         t_ours, rss_ours, _ = proc_rss([PY, "-m", "wordkin.console.cli", "info", str(files[kind]), "--json"], env)
@@ -135,7 +147,7 @@ def bench_size(n: int, rows: list[str], checks: list[Check], work: Path, reps: i
     # Memory after a warm query, read by the process itself: file-backed pages (the memory-mapped matrix and index,
     # shared with the page cache and dropped by the kernel under pressure) apart from the process's own memory.
     mem_code = (
-        "import sys; from console.cli import main; import io, contextlib\n"
+        "import sys; from wordkin.console.cli import main; import io, contextlib\n"
         f"with contextlib.redirect_stdout(io.StringIO()): main(['near', {str(files['text'])!r}, {word!r}, '--json'])\n"
         "st = dict(l.split(':', 1) for l in open('/proc/self/status') if l.startswith(('VmRSS', 'RssAnon', 'RssFile')))\n"
         "print({k: int(v.split()[0]) * 1024 for k, v in st.items()})"
@@ -208,9 +220,17 @@ def machine() -> str:
     mem = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES") / 2**30
     import gensim
 
+    try:
+        from threadpoolctl import threadpool_info
+
+        blas = ", ".join(
+            f"{i['internal_api']} {i.get('version')} ({i.get('num_threads')} threads)" for i in threadpool_info()
+        )
+    except ImportError:
+        blas = "BLAS unknown (threadpoolctl not installed)"
     return (
         f"{os.cpu_count()} cores ({cpu}), {mem:.0f} GiB, Python {platform.python_version()}, "
-        f"numpy {np.__version__}, gensim {gensim.__version__}"
+        f"numpy {np.__version__} with {blas}, gensim {gensim.__version__}"
     )
 
 
@@ -255,7 +275,7 @@ def main() -> int:
         shutil.rmtree(work, ignore_errors=True)
     table = "\n".join(rows)
     targets = "\n".join(["| target | measured | bar | |", "| --- | ---: | --- | --- |"] + [c.line() for c in checks])
-    stamp = time.strftime("%Y-%m-%d")
+    stamp = time.strftime("%Y-%m-%d %H:%M %Z")
     RESULTS.write_text(
         f"# Benchmark results\n\nMeasured {stamp} on {machine()}.\n"
         f"Reproduce: `python -m tests.bench.run` (about 10 minutes).\n\n{table}\n\n## Targets\n\n{targets}\n"
