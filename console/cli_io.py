@@ -52,3 +52,13 @@ def open_session(args: argparse.Namespace, *, want_index: bool = True) -> Sessio
 
 def emit_json(obj: dict[str, Any]) -> None:
     sys.stdout.write(json.dumps(obj, ensure_ascii=False) + "\n")
+
+
+def emit_output(args: argparse.Namespace, text: str) -> None:
+    """An export's text: to ``-o OUT`` by the output-file rules (``--force`` replaces), else to standard output."""
+    from .output_file import write_output
+
+    if args.output and args.output != "-":
+        note(f"wrote {write_output(args.output, text, force=args.force, how_to_force='pass --force')}")
+    else:
+        sys.stdout.write(text)

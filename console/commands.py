@@ -189,14 +189,10 @@ def cmd_prepare(args: argparse.Namespace) -> int:
 
 
 def cmd_export(args: argparse.Namespace) -> int:
-    from .export import export_command, write_file
+    from .cli_io import emit_output
+    from .export import export_command
 
-    text = export_command(args)
-    if args.output:
-        p = write_file(args.output, text, force=args.force, how_to_force="pass --force")
-        note(f"wrote {p}")
-    else:
-        sys.stdout.write(text)
+    emit_output(args, export_command(args))
     return 0
 
 

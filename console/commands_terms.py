@@ -219,19 +219,14 @@ def show_text(tl: Any, *, full: bool) -> str:
 
 
 def t_export(args: argparse.Namespace) -> int:
-    from .export import write_file
+    from .cli_io import emit_output
     from .notebook import Notebook, now
     from .terms import get_list
     from .terms_export import render
 
     with Notebook.open(args.notebook, create=False) as nb:
         tl = get_list(nb, args.name)
-    text = render(tl, args.format, now())
-    if args.output:
-        p = write_file(args.output, text, force=args.force, how_to_force="pass --force")
-        _say(f"wrote {p}")
-    else:
-        sys.stdout.write(text)
+    emit_output(args, render(tl, args.format, now()))
     return 0
 
 
