@@ -165,7 +165,10 @@ class WordkinApp(App[int]):
                     cancel=lambda: worker.is_cancelled,
                 )
                 old.lookup()
-            session = Session.from_load(vs, load(vs), against=old)
+            loaded = load(vs)
+            if loaded.index is not None:
+                loaded.index.is_warm()  # checked here, off the UI thread; a cold index is read in after the load
+            session = Session.from_load(vs, loaded, against=old)
         except CancelledError:
             return
         except WordkinError as exc:
@@ -219,6 +222,8 @@ class WordkinApp(App[int]):
             self.build_ann(session)
         else:
             self.publish(session)
+            if session.index is not None and session.index.warm is False:
+                self.warm_index(session.index)
 
     def on_wordkin_app_load_failed(self, msg: LoadFailed) -> None:
         status = self.status()
@@ -240,6 +245,27 @@ class WordkinApp(App[int]):
             self.post_message(self.IndexFailed(str(exc)))
             return
         self.post_message(self.IndexReady(idx))
+
+    @work(thread=True, exclusive=True, exit_on_error=False, group="index", description="read the index in")
+    def warm_index(self, index: AnnIndex) -> None:
+        """Read a cold index file into the page cache (queries are answered exactly meanwhile), then say so."""
+        from wordkin.index.residency import read_in
+
+        worker = get_current_worker()
+        if index.path is None:
+            return
+        try:
+            done = read_in(
+                index.path,
+                lambda d, t: self._report_index(d, t, "index: reading it into memory"),
+                lambda: worker.is_cancelled,
+            )
+        except OSError as exc:
+            self.post_message(self.IndexFailed(f"the index file could not be read ({exc})"))
+            return
+        if done:
+            index.warm = True
+            self.post_message(self.IndexReady(index))
 
     def on_wordkin_app_index_progress(self, msg: IndexProgress) -> None:
         self._show_progress(msg, "exact search · ")

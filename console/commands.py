@@ -91,6 +91,11 @@ def info_dict(session: Session) -> dict[str, Any]:
             {
                 "trees": idx.trees,
                 "search_k": idx.search_k,
+                # The index holds the unit vectors projected on this many principal axes (the set's own dimensions
+                # for an index built before projections); this many candidates per query are re-ranked exactly.
+                "projected_dims": idx.projected_dims or vs.dims,
+                "candidates": idx.candidates or None,
+                "index_bytes": sum(idx.file_bytes),
                 # recall@10 of the index after the exact re-rank, with the most frequent words and with uniformly
                 # drawn words as queries (a seeded sample of each); an index built by wordkin 0.1 measured only the
                 # uniform sample ("frequent" is then null).
@@ -115,6 +120,10 @@ def info_dict(session: Session) -> dict[str, Any]:
     }
 
 
+def _mib(n: int) -> str:
+    return f"{n / 2**20:,.1f} MiB"
+
+
 def _print_info(d: dict[str, Any]) -> None:
     idx = d["index"]
     lines = [
@@ -135,7 +144,10 @@ def _print_info(d: dict[str, Any]) -> None:
     if idx["state"] == "ready":
         r = idx["recall_at_10"]
         freq = "-" if r["frequent"] is None else f"{r['frequent']:.3f}"
-        lines.append(f"index    ready: annoy, {idx['trees']} trees, search_k {idx['search_k']}")
+        lines.append(
+            f"index    ready: annoy, {idx['trees']} trees over {idx['projected_dims']} dims, search_k "
+            f"{idx['search_k']}, {idx['candidates'] or 'k + 10'} candidates re-ranked, {_mib(idx['index_bytes'])}"
+        )
         lines.append(
             f"recall   @10 against exact search: {freq} on the most frequent words, {r['random']:.3f} on random words"
         )

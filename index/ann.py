@@ -1,13 +1,20 @@
-"""The annoy (angular) index over the unit matrix: built in the background, saved in the cache, memory-mapped.
+"""The annoy (angular) index: built in the background, saved in the cache, memory-mapped.
 
-annoy only proposes candidates; ``search`` re-scores them exactly with numpy, so every similarity shown is an
-exact cosine. annoy loads a truncated or foreign index file without complaint, so ``load`` checks the file size,
-item count and dimensions against ``meta.json`` first. Building is ``index_build``; choosing ``search_k`` by
-measurement is ``tuning``.
+annoy only proposes candidates; ``search`` re-scores them exactly with numpy against the float32 unit matrix, so
+every similarity shown is an exact cosine. Because of that, the index need not hold the full vectors: it is built
+over a compact copy, each unit row projected on the top ``PROJECTED_DIMS`` principal axes of a seeded sample
+(``projection.npy`` in the cache). annoy stores every item's vector in its file, so at 300 dimensions the
+projection makes the index about a fifth of the matrix plus its trees, and each candidate it examines costs a
+64-float dot product instead of a 300-float one. The candidates it proposes (ranked by the projected cosine) are
+re-ranked exactly; how many is tuned with ``search_k`` on measured recall. Indexes built before the projection
+(full vectors, one or two shard files) still load. annoy loads a truncated or foreign index file without
+complaint, so ``load`` checks the file size, item count and dimensions against ``meta.json`` first. Building is
+``index_build``; choosing ``search_k`` by measurement is ``tuning``; whether the file is in memory, ``residency``.
 """
 
 from __future__ import annotations
 
+import dataclasses
 import enum
 import os
 from dataclasses import dataclass
@@ -17,12 +24,36 @@ from typing import Any
 import numpy as np
 
 INDEX_FILE = "annoy.ann"
-#: Sets at most this big are answered exactly: a full scan is as fast as annoy plus re-ranking there.
-EXACT_BELOW_WORDS = 20_000
+PROJECTION_FILE = "projection.npy"
+#: Sets below this many floats (words x dims) are answered exactly: the scan is as fast as the index there. Measured
+#: by the benchmark harness at 300 dimensions (index p50 against scan p50: 1.41x at 10,000 words, 0.51x at
+#: 20,000): the two meet near 15,000 words, and the scan's work grows with words x dims.
+EXACT_BELOW_FLOATS = 15_000 * 300
+
+
+def small_set(n_words: int, dims: int) -> bool:
+    """Whether an exact scan of the set is as fast as the index (``EXACT_BELOW_FLOATS``)."""
+    return n_words * dims < EXACT_BELOW_FLOATS
+
+
+#: The index holds each unit row projected on this many principal axes (sets with fewer dimensions keep theirs).
+PROJECTED_DIMS = 64
+#: Trees cost about this many bytes per item each (annoy, angular, measured at 64 dimensions); ``default_trees``
+#: keeps the whole index file under the size of the float32 matrix.
+TREE_BYTES_PER_ITEM = 12.5
+MAX_TREES = 64
+MIN_TREES = 16
+#: Candidates re-ranked exactly per query, tried smallest first at each search_k.
+CANDIDATE_LADDER = (100, 200, 400)
+#: One candidate examined by annoy (a node read at random plus a short dot product) costs about this many times
+#: one row of a 300-dimension exact scan (sequential): 120 ns against 30 ns in the harness at 400k words. The
+#: index is used only where it examines few enough candidates to beat the scan by this rule on work.
+EXAMINE_COST_ROWS = 4.0
 #: Sets at most this big (words x dims) are built in-process: a child's start-up would cost more than the build.
 IN_PROCESS_BELOW = 3_000_000
 #: search_k values tried at build time, smallest first; the first with recall@10 >= TARGET_RECALL is kept.
 SEARCH_K_LADDER = (
+    1_000,
     2_000,
     5_000,
     10_000,
@@ -36,6 +67,7 @@ SEARCH_K_LADDER = (
     120_000,
     160_000,
     320_000,
+    640_000,
 )
 TARGET_RECALL = 0.99
 #: The samples' recall must clear the target by this much.
@@ -45,15 +77,21 @@ RECALL_MARGIN = 0.002
 RECALL_SAMPLE = 500
 
 
-def default_trees(n_words: int) -> int:
-    """Trees by set size, chosen from the benchmark harness's measurements (tests/bench).
+def projected_dims(dims: int) -> int:
+    return min(dims, PROJECTED_DIMS)
 
-    At 400k x 300, 50 trees needed search_k 40,000 for recall@10 0.99 (10 ms, a quarter of an exact scan); 100 trees
-    reach it at 30,000 (7.8 ms, under a fifth) for 2.4x the build time, which runs in the background.
-    """
-    if n_words <= 200_000:
-        return 40
-    return 100
+
+def node_bytes(dims: int) -> int:
+    """Bytes of one annoy angular node holding a ``dims``-float vector (descendant count, two children, vector)."""
+    return 12 + 4 * dims
+
+
+def default_trees(dims: int) -> int:
+    """As many trees as keep the index file within the size of the float32 matrix (``4 * dims`` bytes a word),
+    between ``MIN_TREES`` and ``MAX_TREES``: at 300 dimensions, 64 trees over 64 projected dimensions make a file of
+    0.87x the matrix (measured at 400k and 1M words). More trees need a smaller search_k for the same recall."""
+    room = 4 * dims - node_bytes(projected_dims(dims))
+    return int(max(MIN_TREES, min(MAX_TREES, room // TREE_BYTES_PER_ITEM)))
 
 
 class IndexState(enum.Enum):
@@ -112,7 +150,7 @@ def shard_file(i: int) -> str:
     return INDEX_FILE if i == 0 else f"annoy.{i}.ann"
 
 
-def _open_shards(dims: int, paths: list[Path], prefault: bool = False) -> Shards:
+def open_shards(dims: int, paths: list[Path], prefault: bool = False) -> Shards:
     from annoy import AnnoyIndex
 
     out = []
@@ -125,9 +163,9 @@ def _open_shards(dims: int, paths: list[Path], prefault: bool = False) -> Shards
 
 @dataclass
 class AnnIndex:
-    """A loaded annoy index with the ``search_k`` chosen for it and its measured recall@10."""
+    """A loaded annoy index with the ``search_k`` and candidate count chosen for it and its measured recall@10."""
 
-    index: Any  # annoy.AnnoyIndex
+    index: Any  # annoy.AnnoyIndex, or Shards
     n_trees: int
     search_k: int
     recall_at_10: float
@@ -135,19 +173,61 @@ class AnnIndex:
     #: search_k for combined vectors (arithmetic, analogies), or None where the index cannot match an exact scan's
     #: top answer often enough (then those are answered exactly).
     calc_search_k: int | None = None
+    #: ``(dims, projected dims)`` float32: unit vectors are projected on it before annoy sees them (None: the
+    #: index holds the full vectors).
+    projection: np.ndarray | None = None
+    #: How many candidates a query asks annoy for (at least), to be re-ranked exactly.
+    n_candidates: int = 0
+    #: Words in the set (for the rule on work in ``worthwhile``).
+    n_words: int = 0
+    #: Whether the index file was found (mostly) in the page cache: None until checked (``is_warm``).
+    warm: bool | None = dataclasses.field(default=None, compare=False)
+
+    def project(self, vec: np.ndarray) -> np.ndarray:
+        if self.projection is None:
+            return vec
+        out: np.ndarray = np.asarray(vec, dtype=np.float32) @ self.projection
+        return out
 
     def candidates(self, vec: np.ndarray, n: int) -> list[int]:
-        return list(self.index.get_nns_by_vector(vec, n, search_k=self.search_k))
+        want = max(n, self.n_candidates)
+        return list(self.index.get_nns_by_vector(self.project(vec), want, search_k=self.search_k))
+
+    def with_search(self, search_k: int, n_candidates: int | None = None) -> AnnIndex:
+        return dataclasses.replace(
+            self, search_k=search_k, n_candidates=self.n_candidates if n_candidates is None else n_candidates
+        )
 
     def for_expressions(self) -> AnnIndex | None:
         """The same index tuned for combined vectors, or None when expressions should be answered exactly."""
         if self.calc_search_k is None:
             return None
-        return AnnIndex(self.index, self.n_trees, self.calc_search_k, self.recall_at_10, self.path, self.calc_search_k)
+        return self.with_search(self.calc_search_k)
+
+    def is_warm(self) -> bool:
+        """Whether the index file is mostly in the page cache (``residency``): checked at each query until it is,
+        then never again (a query then costs no system call)."""
+        if self.warm or self.path is None:
+            return True
+        from .residency import WARM_SHARE, resident_share
+
+        share = resident_share(self.path)
+        self.warm = share is None or share >= WARM_SHARE
+        return self.warm
 
     @property
     def usable(self) -> bool:
-        return self.recall_at_10 >= TARGET_RECALL + RECALL_MARGIN
+        return self.recall_at_10 >= TARGET_RECALL + RECALL_MARGIN and self.worthwhile
+
+    @property
+    def worthwhile(self) -> bool:
+        """Whether the index examines few enough candidates to beat an exact scan (a rule on work, so the same
+        vectors always get the same answer; ``EXAMINE_COST_ROWS`` is measured by the harness)."""
+        return worthwhile(self.search_k, self.n_words)
+
+
+def worthwhile(search_k: int, n_words: int) -> bool:
+    return n_words <= 0 or search_k * EXAMINE_COST_ROWS <= n_words
 
 
 @dataclass(frozen=True)
@@ -179,11 +259,27 @@ def load(vs: Any) -> IndexLoad:
                 return IndexLoad(
                     IndexState.REJECTED, reason=f"{p.name} has {p.stat().st_size:,} bytes, expected {want:,}"
                 )
-        idx = _open_shards(vs.dims, paths)
-        if idx.get_n_items() != vs.n or idx.f != vs.dims:
+        projection = None
+        if info.projected_dims:
+            projection = np.load(Path(vs.cache_dir) / PROJECTION_FILE, allow_pickle=False)
+            if projection.shape != (vs.dims, info.projected_dims) or projection.dtype != np.float32:
+                return IndexLoad(IndexState.REJECTED, reason=f"{PROJECTION_FILE} does not match meta.json")
+        f = info.projected_dims or vs.dims
+        idx = open_shards(f, paths)
+        if idx.get_n_items() != vs.n or idx.f != f:
             idx.unload()
             return IndexLoad(IndexState.REJECTED, reason="the index does not match the vectors")
-        ann = AnnIndex(idx, info.trees, info.search_k, info.recall_at_10, paths[0], info.calc_search_k or None)
+        ann = AnnIndex(
+            idx,
+            info.trees,
+            info.search_k,
+            info.recall_at_10,
+            paths[0],
+            info.calc_search_k or None,
+            projection=projection,
+            n_candidates=info.candidates,
+            n_words=vs.n,
+        )
         return IndexLoad(IndexState.READY, ann)
     except (OSError, ValueError, TypeError) as exc:
         return IndexLoad(IndexState.REJECTED, reason=f"unreadable ({exc})")

@@ -53,6 +53,8 @@ class IndexMeta:
     shards: int = 1
     file_bytes: tuple[int, ...] = ()
     seed: int = 1
+    projected_dims: int = 0  # dimensions of the vectors in the index (0: the full vectors, as older builds made)
+    candidates: int = 0  # candidates re-ranked exactly per query (0: k + excluded + 10, as older builds did)
 
 
 @dataclass(frozen=True)

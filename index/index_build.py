@@ -1,9 +1,10 @@
 """Building the annoy index of a cached vector set, in-process for small sets and in child processes otherwise.
 
 annoy's ``build()`` releases the GIL but reports nothing and cannot be interrupted: large sets are built by
-``ann_child`` subprocesses (plain subprocesses, so they share no threads or file descriptors with a running app),
-so that a cancel or a quit never waits for it. After the build, ``tuning`` measures ``search_k`` and recall, and
-the figures go into the cache's metadata.
+an ``ann_child`` subprocess (a plain subprocess, so it shares no threads or file descriptors with a running app),
+so that a cancel or a quit never waits for it. The index holds the unit rows projected on principal axes
+(``projection``); after the build, ``tuning`` measures ``search_k``, the candidate count and recall, and the
+figures go into the cache's metadata.
 """
 
 from __future__ import annotations
@@ -15,17 +16,32 @@ from typing import Any
 
 import numpy as np
 
+from . import ann as _ann
 from . import cache
-from .ann import IN_PROCESS_BELOW, RECALL_SAMPLE, AnnIndex, IndexState, _open_shards, default_trees, load, shard_file
+from .ann import (
+    PROJECTION_FILE,
+    RECALL_SAMPLE,
+    AnnIndex,
+    IndexState,
+    load,
+    open_shards,
+    projected_dims,
+    shard_file,
+)
 from .errors import CancelledError, WordkinError
 from .progress import CancelFn, ProgressFn
+from .projection import principal_axes
 from .tuning import choose_calc_search_k, choose_search_k
 
 
-def _add_and_build(matrix_path: str, out: str, dims: int, n_trees: int, seed: int, report: Any) -> None:
+def _add_and_build(
+    matrix_path: str, out: str, dims: int, n_trees: int, seed: int, report: Any, projection: str | None = None
+) -> None:
+    """Add every unit row (projected on ``projection``'s axes when given: ``dims`` is then its width) and build."""
     from annoy import AnnoyIndex
 
     unit = np.load(matrix_path, mmap_mode="r")
+    axes = np.load(projection, allow_pickle=False) if projection else None
     idx = AnnoyIndex(dims, "angular")
     idx.set_seed(seed)
     idx.on_disk_build(out)
@@ -33,6 +49,8 @@ def _add_and_build(matrix_path: str, out: str, dims: int, n_trees: int, seed: in
     step = 5000
     for s in range(0, n, step):
         block = np.asarray(unit[s : s + step], dtype=np.float32)
+        if axes is not None:
+            block = block @ axes
         for j in range(len(block)):
             idx.add_item(s + j, block[j])
         report("adding", min(n, s + step), n)
@@ -54,35 +72,46 @@ def build(
     if vs.cache_dir is None:
         raise WordkinError("an index needs the cache (it is off): drop --no-cache")
     cache_dir = Path(vs.cache_dir)
-    trees = n_trees or default_trees(vs.n)
+    trees = n_trees or _ann.default_trees(vs.dims)
     if in_process is None:
-        in_process = vs.n * vs.dims <= IN_PROCESS_BELOW
-    n_shards = 1 if in_process or trees < 2 else 2
-    tmps = [cache_dir / f".{shard_file(i)}.{os.getpid()}.tmp" for i in range(n_shards)]
+        in_process = vs.n * vs.dims <= _ann.IN_PROCESS_BELOW
+    pid = os.getpid()
+    tmp = cache_dir / f".{shard_file(0)}.{pid}.tmp"
+    tmp_axes = cache_dir / f".{PROJECTION_FILE}.{pid}.tmp"
     matrix = str(cache_dir / "matrix.npy")
     report = progress or (lambda d, t, s: None)
     t0 = time.perf_counter()
-    per_shard = [trees // n_shards + (1 if i < trees % n_shards else 0) for i in range(n_shards)]
+    f = projected_dims(vs.dims)
+    axes = None
     try:
+        if f < vs.dims:
+            report(0, 0, "index: principal axes")
+            axes = principal_axes(vs.unit, vs.zero_rows, f)
+            with open(tmp_axes, "wb") as fh:
+                np.save(fh, axes, allow_pickle=False)
+        axes_arg = str(tmp_axes) if axes is not None else None
         if in_process:
-            _add_and_build(matrix, str(tmps[0]), vs.dims, trees, seed, lambda st, d, t: report(d, t, f"index: {st}"))
+            _add_and_build(matrix, str(tmp), f, trees, seed, lambda st, d, t: report(d, t, f"index: {st}"), axes_arg)
         else:
-            _build_in_children(matrix, tmps, vs.dims, per_shard, seed, report, cancel)
+            _build_in_children(matrix, [tmp], f, [trees], seed, report, cancel, axes_arg)
         build_s = time.perf_counter() - t0
-        idx = _open_shards(vs.dims, tmps)
+        idx = AnnIndex(open_shards(f, [tmp]), trees, 0, 1.0, None, projection=axes, n_words=vs.n)
         report(0, 0, "index: measuring recall@10")
         est = choose_search_k(vs, idx, cancel=cancel)
         report(0, 0, "index: checking analogies")
-        calc_sk, agree = choose_calc_search_k(vs, idx, est.search_k, cancel=cancel)
-        idx.unload()
-        for i in range(n_shards, 4):
+        calc_sk, agree = choose_calc_search_k(vs, idx.with_search(est.search_k, est.candidates), cancel=cancel)
+        idx.index.unload()
+        for i in range(1, 4):
             (cache_dir / shard_file(i)).unlink(missing_ok=True)
-        finals = [cache_dir / shard_file(i) for i in range(n_shards)]
-        for t, f in zip(tmps, finals, strict=True):
-            os.replace(t, f)
+        final = cache_dir / shard_file(0)
+        os.replace(tmp, final)
+        if axes is not None:
+            os.replace(tmp_axes, cache_dir / PROJECTION_FILE)
+        else:
+            (cache_dir / PROJECTION_FILE).unlink(missing_ok=True)
     except BaseException:
-        for t in tmps:
-            t.unlink(missing_ok=True)
+        tmp.unlink(missing_ok=True)
+        tmp_axes.unlink(missing_ok=True)
         raise
     info = cache.IndexMeta(
         state="ready",
@@ -97,9 +126,11 @@ def build(
         calc_search_k=calc_sk,
         calc_top1_agreement=round(agree, 4),
         build_seconds=round(build_s, 2),
-        shards=n_shards,
-        file_bytes=tuple(f.stat().st_size for f in finals),
+        shards=1,
+        file_bytes=(final.stat().st_size,),
         seed=seed,
+        projected_dims=f if axes is not None else 0,
+        candidates=est.candidates,
     )
     vs.meta = vs.meta.with_index(info)
     cache.write_meta(cache_dir, vs.meta)
@@ -110,9 +141,16 @@ def build(
 
 
 def _build_in_children(
-    matrix: str, outs: list[Path], dims: int, trees: list[int], seed: int, report: ProgressFn, cancel: CancelFn | None
+    matrix: str,
+    outs: list[Path],
+    dims: int,
+    trees: list[int],
+    seed: int,
+    report: ProgressFn,
+    cancel: CancelFn | None,
+    projection: str | None = None,
 ) -> None:
-    """Run one ``ann_child`` subprocess per shard at once, relaying shard 0's progress; kill all on cancel.
+    """Run one ``ann_child`` subprocess per output file at once, relaying the first's progress; kill all on cancel.
 
     Plain subprocesses, not multiprocessing: they need no file descriptors of the parent (a Textual app replaces
     stdout and stderr with objects that have none) and share no threads with it.
@@ -124,7 +162,7 @@ def _build_in_children(
     child = __name__.rsplit(".", 1)[0] + ".ann_child"
     procs = [
         subprocess.Popen(
-            [sys.executable, "-m", child, matrix, str(out), str(dims), str(t), str(seed + k)],
+            [sys.executable, "-m", child, matrix, str(out), str(dims), str(t), str(seed + k), projection or "-"],
             stdin=subprocess.DEVNULL,
             stdout=subprocess.PIPE,
             stderr=subprocess.PIPE,

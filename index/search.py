@@ -8,7 +8,7 @@ from collections.abc import Sequence
 import numpy as np
 from numpy.typing import NDArray
 
-from .ann import EXACT_BELOW_WORDS, AnnIndex
+from .ann import AnnIndex, small_set
 from .errors import UsageError
 from .store import VectorSet
 
@@ -95,7 +95,7 @@ def use_ann(vs: VectorSet, ann: AnnIndex | None, mode: str) -> bool:
         return False
     if mode == "ann":
         return True
-    return ann.usable and vs.n >= EXACT_BELOW_WORDS
+    return ann.usable and not small_set(vs.n, vs.dims) and ann.is_warm()
 
 
 def top_for_vector(

@@ -10,7 +10,7 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 
-from .ann import EXACT_BELOW_WORDS, AnnIndex, IndexLoad, IndexState
+from .ann import AnnIndex, IndexLoad, IndexState, small_set
 from .store import VectorSet
 
 
@@ -44,8 +44,14 @@ class Session:
         an index was rejected or failed."""
         s = self.state
         if s is IndexState.READY and self.index is not None:
-            if self.vectors.n < EXACT_BELOW_WORDS:
+            if small_set(self.vectors.n, self.vectors.dims):
                 return "exact search: small set"  # a full scan is as fast as the index below this size
+            if not self.index.worthwhile:
+                return "exact search: faster than the index here"
+            if not self.index.usable:
+                return f"exact search: index recall@10 {self.index.recall_at_10:.3f} too low"
+            if self.index.warm is False:
+                return "exact search: index not in memory yet"  # its file is being read in
             return f"index, recall@10 {self.index.recall_at_10:.3f}"
         if s is IndexState.BUILDING:
             return "exact search, index building"

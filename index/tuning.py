@@ -1,5 +1,6 @@
-"""Choosing annoy's ``search_k`` by measurement: the smallest value on a ladder whose recall@10 (after the exact
-re-rank) reaches the target on a seeded sample, and a separate value for combined vectors (analogies)."""
+"""Choosing annoy's ``search_k`` and candidate count by measurement: the smallest pair on the ladders whose
+recall@10 (after the exact re-rank) reaches the target on two seeded samples, and a separate search_k for
+combined vectors (analogies). No timing decides anything here: the same vectors give the same choice."""
 
 from __future__ import annotations
 
@@ -9,7 +10,15 @@ from typing import Any
 
 import numpy as np
 
-from .ann import RECALL_MARGIN, RECALL_SAMPLE, SEARCH_K_LADDER, TARGET_RECALL, AnnIndex
+from .ann import (
+    CANDIDATE_LADDER,
+    RECALL_MARGIN,
+    RECALL_SAMPLE,
+    SEARCH_K_LADDER,
+    TARGET_RECALL,
+    AnnIndex,
+    worthwhile,
+)
 from .errors import CancelledError
 from .progress import CancelFn
 from .search import exact_top, rerank, unit_query
@@ -26,6 +35,7 @@ class RecallEstimate:
     random: float
     missing: float
     p50_ms: float
+    candidates: int = CANDIDATE_LADDER[0]
 
     @property
     def worst(self) -> float:
@@ -55,50 +65,74 @@ def _truth(vs: Any, rows: np.ndarray, k: int) -> list[set[int]]:
 
 def measure_recall(
     vs: Any,
-    idx: Any,
+    ann: AnnIndex,
     search_k: int,
     samples: tuple[np.ndarray, np.ndarray],
     truth: tuple[list[set[int]], ...],
     k: int = 10,
+    candidates: int | None = None,
 ) -> RecallEstimate:
-    """recall@k at ``search_k`` on both samples (``truth``: each query's exact top k)."""
-    ann = AnnIndex(idx, 0, search_k, 1.0, None)
-    recalls = []
-    missing = 0
+    """recall@k at ``search_k`` (and ``candidates`` re-ranked) on both samples (``truth``: each query's exact top
+    k)."""
+    n = candidates or ann.n_candidates or CANDIDATE_LADDER[0]
+    return _measure(vs, ann, search_k, samples, truth, k, (n,))[0]
+
+
+def _measure(
+    vs: Any,
+    ann: AnnIndex,
+    search_k: int,
+    samples: tuple[np.ndarray, np.ndarray],
+    truth: tuple[list[set[int]], ...],
+    k: int,
+    counts: tuple[int, ...],
+) -> list[RecallEstimate]:
+    """One estimate per candidate count in ``counts``, from one annoy query per sample word (annoy returns its
+    candidates best first, so each count re-ranks a prefix of the same list)."""
+    want = max(max(counts), k + 11)
+    hits = np.zeros((len(counts), len(samples)), dtype=np.int64)
+    missing = np.zeros(len(counts), dtype=np.int64)
     times: list[float] = []
-    for rows, want in zip(samples, truth, strict=True):
-        hits = 0
-        for i, t in zip(rows, want, strict=True):
-            time.sleep(0)
+    for si, (rows, wanted) in enumerate(zip(samples, truth, strict=True)):
+        for i, t in zip(rows, wanted, strict=True):
+            time.sleep(0)  # let a console's UI thread run between queries
+            q = vs.unit[i]
             t1 = time.perf_counter()
-            got, _ = ann_top(vs, ann, vs.unit[i], k, exclude=[int(i)])
+            cands = np.asarray(ann.index.get_nns_by_vector(ann.project(q), want, search_k=search_k), np.int64)
+            got, _ = rerank(vs, q, cands[: counts[0]], k, [int(i)])
             times.append(time.perf_counter() - t1)
-            h = len(t.intersection(got.tolist()))
-            hits += h
-            missing += h < len(t)
-        recalls.append(hits / max(1, sum(len(t) for t in want)))
-    total = sum(len(r) for r in samples)
+            for ci, c in enumerate(counts):
+                if ci:
+                    got, _ = rerank(vs, q, cands[:c], k, [int(i)])
+                h = len(t.intersection(got.tolist()))
+                hits[ci, si] += h
+                missing[ci] += h < len(t)
+    sizes = [max(1, sum(len(t) for t in w)) for w in truth]
+    total = max(1, sum(len(r) for r in samples))
     p50 = float(np.median(times) * 1000) if times else 0.0
-    return RecallEstimate(
-        search_k, recalls[0], recalls[1] if len(recalls) > 1 else recalls[0], missing / max(1, total), p50
-    )
+    out = []
+    for ci, c in enumerate(counts):
+        rec = [hits[ci, si] / sizes[si] for si in range(len(samples))]
+        out.append(RecallEstimate(search_k, rec[0], rec[1] if len(rec) > 1 else rec[0], missing[ci] / total, p50, c))
+    return out
 
 
-def choose_search_k(vs: Any, idx: Any, *, cancel: CancelFn | None = None, k: int = 10) -> RecallEstimate:
-    """The smallest ``search_k`` on the ladder whose recall@k clears the target on both samples (frequent and
-    random words), or the best one found. Deterministic given the vectors: seeded samples, no timing decides."""
+def choose_search_k(vs: Any, ann: AnnIndex, *, cancel: CancelFn | None = None, k: int = 10) -> RecallEstimate:
+    """The smallest ``search_k`` on the ladder, then the fewest candidates, whose recall@k clears the target on both
+    samples (frequent and random words), or the best pair found. Deterministic given the vectors."""
     samples = recall_samples(vs)
     truth = (_truth(vs, samples[0], k), _truth(vs, samples[1], k))
     best: RecallEstimate | None = None
+    trees = max(1, ann.index.get_n_trees())
     for sk in SEARCH_K_LADDER:
         if cancel is not None and cancel():
             raise CancelledError("cancelled")
-        est = measure_recall(vs, idx, sk, samples, truth, k)
-        if best is None or est.worst > best.worst:
-            best = est
-        if est.worst >= TARGET_RECALL + RECALL_MARGIN:
-            return est
-        if sk >= 2 * vs.n * max(1, idx.get_n_trees()):
+        for est in _measure(vs, ann, sk, samples, truth, k, CANDIDATE_LADDER):
+            if best is None or est.worst > best.worst:
+                best = est
+            if est.worst >= TARGET_RECALL + RECALL_MARGIN:
+                return est
+        if sk >= 2 * vs.n * trees:
             break
     assert best is not None
     return best
@@ -108,13 +142,11 @@ CALC_SAMPLE = 150
 TARGET_AGREEMENT = 0.99
 
 
-def choose_calc_search_k(
-    vs: Any, idx: Any, search_k: int, *, cancel: CancelFn | None = None
-) -> tuple[int | None, float]:
-    """search_k for ``b - a + c`` vectors: the smallest multiple of ``search_k`` (up to 8) whose top answer agrees
-    with an exact scan on a seeded sample of random triples at least 99% of the time. ``(None, best agreement)``
-    when none does within half the set's size: expressions are then answered exactly. No timing decides (the same
-    vectors, the same choice)."""
+def choose_calc_search_k(vs: Any, ann: AnnIndex, *, cancel: CancelFn | None = None) -> tuple[int | None, float]:
+    """search_k for ``b - a + c`` vectors: the smallest multiple of ``ann.search_k`` (up to 8) whose top answer
+    agrees with an exact scan on a seeded sample of random triples at least 99% of the time. ``(None, best
+    agreement)`` when none does while the index is still worth its work (``ann.worthwhile``): expressions are then
+    answered exactly. No timing decides (the same vectors, the same choice)."""
     rng = np.random.default_rng(54321)
     ok = np.ones(vs.n, dtype=bool)
     ok[vs.zero_rows] = False
@@ -132,16 +164,16 @@ def choose_calc_search_k(
     for mult in (1, 2, 4, 8):
         if cancel is not None and cancel():
             raise CancelledError("cancelled")
-        sk = search_k * mult
-        if sk > vs.n // 2:
-            # annoy then examines at least half the set, one vector at a time: one matrix product over the whole
-            # set is faster (measured by the harness, tests/bench: an 8x search_k at 100k took 7.3 ms against
-            # the scan's 3.9 ms). A rule on the amount of work, so the same vectors always get the same choice.
+        sk = ann.search_k * mult
+        if not worthwhile(sk, vs.n):
+            # annoy would examine so much of the set, one vector at a time, that one matrix product over the whole
+            # set is faster (a rule on the amount of work, measured by the harness: see ann.EXAMINE_COST_ROWS).
             break
+        probe = ann.with_search(sk)
         agree = 0
         for (a, b, c), q, want in zip(triples, queries, truth, strict=True):
             time.sleep(0)
-            cands = np.asarray(idx.get_nns_by_vector(q, 23, search_k=sk), dtype=np.int64)
+            cands = np.asarray(probe.candidates(q, 23), dtype=np.int64)
             rows, _ = rerank(vs, q, cands, 1, [int(a), int(b), int(c)])
             agree += bool(len(rows)) and int(rows[0]) == want
         frac = agree / len(triples)

@@ -13,7 +13,7 @@ from .conftest import neighbours, structured_set
 
 
 def test_recall_at_10_on_50k_structured_set(tmp_path):
-    n, d = 50_000, 64
+    n, d = 50_000, 96  # more dimensions than the index keeps: it holds a projection
     x = structured_set(n, d, seed=11, clusters=800)
     np.save(tmp_path / "syn.npy", x)
     (tmp_path / "syn.words.txt").write_text("\n".join(f"w{i:06d}" for i in range(n)) + "\n")
@@ -21,6 +21,8 @@ def test_recall_at_10_on_50k_structured_set(tmp_path):
     idx = build(vs)
     assert vs.meta.index.recall_at_10 >= 0.99
     assert idx.usable
+    assert idx.projection is not None and idx.projection.shape == (d, ann.PROJECTED_DIMS)
+    assert vs.meta.index.projected_dims == ann.PROJECTED_DIMS and vs.meta.index.candidates >= 100
     # An independent sample (other seed than the build's) of queries, checked here against exact search.
     rng = np.random.default_rng(99)
     hits = 0
@@ -60,7 +62,7 @@ def test_child_process_build_and_cancel(tmp_path):
 
 
 def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_path):
-    from wordkin.index.ann import RECALL_MARGIN, TARGET_RECALL, _open_shards
+    from wordkin.index.ann import RECALL_MARGIN, TARGET_RECALL
     from wordkin.index.tuning import _truth, choose_search_k, measure_recall, recall_samples
 
     n, d = 20_000, 48
@@ -73,7 +75,8 @@ def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_
     assert not set(frequent) & set(random)
     # A deliberately weak index: one tree.
     build(vs, n_trees=1)
-    idx = _open_shards(vs.dims, [vs.cache_dir / ann.INDEX_FILE])
+    idx = ann.load(vs).index
+    assert idx is not None
     truth = (_truth(vs, frequent, 10), _truth(vs, random, 10))
     weak = measure_recall(vs, idx, 20, (frequent, random), truth)
     assert weak.worst < TARGET_RECALL and weak.missing > 0.05  # reported below the target, per sample
@@ -88,3 +91,22 @@ def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_
         and info.recall_random > 0
         and info.recall_at_10 == min(info.recall_frequent, info.recall_random)
     )
+
+
+def test_principal_axes_span_the_top_singular_vectors_and_are_deterministic():
+    from wordkin.index.projection import principal_axes
+
+    x = structured_set(3000, 40, seed=3)
+    unit = x / np.linalg.norm(x, axis=1, keepdims=True)
+    a = principal_axes(unit, np.array([], dtype=np.int64), 8)
+    assert a.shape == (40, 8) and a.dtype == np.float32
+    np.testing.assert_allclose(a.T @ a, np.eye(8), atol=1e-5)
+    # The same subspace as numpy's SVD of the rows (best rank-8 approximation, Eckart-Young): equal projectors.
+    _, _, vt = np.linalg.svd(unit.astype(np.float64), full_matrices=False)
+    v = vt[:8].T
+    np.testing.assert_allclose(a @ a.T, v @ v.T, atol=1e-4)
+    assert np.array_equal(a, principal_axes(unit, np.array([], dtype=np.int64), 8))  # the same axes again
+    # A sample of the rows (seeded) when the set is larger than the sample: still deterministic, nearly the same.
+    b = principal_axes(unit, np.array([0, 1], dtype=np.int64), 8, sample=2000)
+    assert np.array_equal(b, principal_axes(unit, np.array([0, 1], dtype=np.int64), 8, sample=2000))
+    assert np.linalg.norm(b @ b.T - v @ v.T) < 1.0  # of at most 4 (sqrt(2 * 8)) for unrelated subspaces

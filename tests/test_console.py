@@ -283,7 +283,7 @@ def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
     np.save(tmp_path / "s.npy", structured_set(n, 32, seed=4))
     (tmp_path / "s.words.txt").write_text("\n".join(f"w{i}" for i in range(n)) + "\n")
     monkeypatch.setattr(ann, "IN_PROCESS_BELOW", 0)  # build in child processes, as for large sets
-    monkeypatch.setattr(ann, "default_trees", lambda n_words: 400)  # long enough to quit in the middle
+    monkeypatch.setattr(ann, "default_trees", lambda dims: 400)  # long enough to quit in the middle
     cache = tmp_path / "cache"
 
     async def main():
