@@ -67,15 +67,19 @@ def write_binary(path: Path, x: np.ndarray) -> Path:
     return path
 
 
-def ensure(n: int, dims: int = 300) -> dict[str, Path]:
-    """Text and binary files of the ``n``-word set, generated once."""
+#: Files ``ensure`` wrote in this process (the harness removes them at the end unless asked to keep them).
+CREATED: list[Path] = []
+
+
+def ensure(n: int, dims: int = 300, kinds: tuple[str, ...] = ("text", "binary")) -> dict[str, Path]:
+    """The ``kinds`` ("text", "binary") of files of the ``n``-word set, generated once."""
     OUT.mkdir(parents=True, exist_ok=True)
     base = OUT / f"synth-{n // 1000}k-{dims}d"
-    text, binary = base.with_suffix(".txt"), base.with_suffix(".bin")
-    if not text.exists() or not binary.exists():
+    paths = {"text": base.with_suffix(".txt"), "binary": base.with_suffix(".bin")}
+    missing = [k for k in kinds if not paths[k].exists()]
+    if missing:
         x = matrix(n, dims)
-        if not text.exists():
-            write_text(text, x)
-        if not binary.exists():
-            write_binary(binary, x)
-    return {"text": text, "binary": binary}
+        for k in missing:
+            (write_text if k == "text" else write_binary)(paths[k], x)
+            CREATED.append(paths[k])
+    return {k: paths[k] for k in kinds}

@@ -1,8 +1,8 @@
-"""Console benchmark, Pilot-driven: Enter-to-result latency with the index ready, and frame stalls while the
-index builds.
+"""Console benchmark, Pilot-driven: start to first answer, keystroke to completions and Enter to result with the
+index ready, and frame stalls while the index builds.
 
-Usage: python -m tests.bench.tui BIG_TEXT_FILE (index prepared in $WORDKIN_CACHE) SMALL_TEXT_FILE
-Prints one JSON line.
+Usage: python -m tests.bench.tui BIG_TEXT_FILE (index prepared in $WORDKIN_CACHE) SMALL_TEXT_FILE WORK_DIR
+Prints one JSON line. Notebooks and the cold cache go to WORK_DIR (the harness removes it).
 """
 
 from __future__ import annotations
@@ -10,57 +10,89 @@ from __future__ import annotations
 import asyncio
 import json
 import sys
-import tempfile
 import time
+from pathlib import Path
+from typing import Any
 
 import numpy as np
 
 
-async def latency(path: str) -> list[float]:
-    from textual.widgets import Input
+async def _answer(pilot: Any, pane: Any, box: Any) -> float:
+    """Press Enter and wait for the pane's result to change; milliseconds."""
+    before = pane.result
+    t0 = time.perf_counter()
+    # Not awaited: Pilot.press also waits for the screen to go idle, which is not what a user waits for.
+    press = asyncio.ensure_future(pilot.press("enter"))
+    end = time.monotonic() + 30
+    # The pane's handler sets ``result`` and fills the table in the same step.
+    while pane.result is before:
+        if time.monotonic() > end:
+            raise SystemExit(f"no result for {box.value!r}: {pane.query_one('#nb-message').render()}")
+        await asyncio.sleep(0.001)
+    dt = (time.perf_counter() - t0) * 1000
+    await press
+    return dt
+
+
+async def latency(path: str, work: Path) -> dict[str, Any]:
+    from textual.widgets import Input, Static
 
     from wordkin.console.app import create_app
     from wordkin.console.pane_neighbours import NeighboursPane
 
-    app = create_app(path, notebook=tempfile.mktemp(suffix=".wkn"))
-    out = []
+    t_start = time.perf_counter()
+    app = create_app(path, notebook=str(work / "latency.wkn"))
+    out: list[float] = []
+    keys: list[float] = []
     async with app.run_test(size=(80, 24)) as pilot:
         end = time.monotonic() + 300
-        while app.session is None or app.session.index is None:
+        while app.session is None:
+            if time.monotonic() > end:
+                raise SystemExit(f"never loaded: {app.query_one('StatusLine').mode}")
+            await asyncio.sleep(0.005)
+        box = app.query_one("#nb-word", Input)
+        pane = app.query_one(NeighboursPane)
+        box.value = app.session.vectors.words[7]
+        await _answer(pilot, pane, box)
+        first_answer = time.perf_counter() - t_start
+        end = time.monotonic() + 300
+        while app.session is None or app.session.index is None or app.session.index.warm is False:
             if time.monotonic() > end:
                 raise SystemExit(f"index never ready: {app.query_one('StatusLine').mode}")
             await pilot.pause(0.05)
         rng = np.random.default_rng(3)
-        box = app.query_one("#nb-word", Input)
         vs = app.session.vectors
-        for r in rng.choice(vs.n, 30, replace=False):
+        shown = app.query_one("#nb-complete", Static)
+        # Keystrokes: type words one letter at a time; each letter redraws the completion line.
+        for r in rng.choice(vs.n, 10, replace=False):
+            box.value = ""
+            await pilot.pause(0.05)
+            for ch in vs.words[int(r)]:
+                before = shown.content
+                t0 = time.perf_counter()
+                press = asyncio.ensure_future(pilot.press(ch))
+                end = time.monotonic() + 10
+                while shown.content is before:
+                    if time.monotonic() > end:
+                        raise SystemExit(f"completions never shown after {ch!r}")
+                    await asyncio.sleep(0.001)
+                keys.append((time.perf_counter() - t0) * 1000)
+                await press
+            out.append(await _answer(pilot, pane, box))
+        for r in rng.choice(vs.n, 20, replace=False):
             box.value = vs.words[int(r)]
             await pilot.pause(0.05)
-            pane = app.query_one(NeighboursPane)
-            before = pane.result
-            t0 = time.perf_counter()
-            # Not awaited: Pilot.press also waits for the screen to go idle, which is not what a user waits for.
-            press = asyncio.ensure_future(pilot.press("enter"))
-            end = time.monotonic() + 10
-            # The pane's handler sets ``result`` and fills the table in the same step.
-            while pane.result is before:
-                if time.monotonic() > end:
-                    raise SystemExit(f"no result for {box.value!r}: {app.query_one('#nb-message').render()}")
-                await asyncio.sleep(0.001)
-            out.append((time.perf_counter() - t0) * 1000)
-            await press
-    return out
+            out.append(await _answer(pilot, pane, box))
+    return {"first_answer": first_answer, "enter": out, "keys": keys}
 
 
-async def stall(path: str) -> float:
-    import os
-
+async def stall(path: str, work: Path) -> float:
     from textual.widgets import Input
 
     from wordkin.console.app import create_app
 
-    os.environ["WORDKIN_CACHE"] = tempfile.mkdtemp()  # a cold open: parse and build the index from scratch
-    app = create_app(path, notebook=tempfile.mktemp(suffix=".wkn"))
+    # A cold open: parse and build the index from scratch, in a cache of its own.
+    app = create_app(path, notebook=str(work / "stall.wkn"), cache=str(work / "cache-stall"))
     ticks: list[float] = []
     async with app.run_test(size=(80, 24)) as pilot:
         app.set_interval(0.02, lambda: ticks.append(time.perf_counter()))
@@ -78,9 +110,24 @@ async def stall(path: str) -> float:
 
 
 def main() -> None:
-    lat = asyncio.run(latency(sys.argv[1]))
-    st = asyncio.run(stall(sys.argv[2]))
-    print(json.dumps({"p50": float(np.median(lat)), "max": float(np.max(lat)), "n": len(lat), "stall": st}))
+    work = Path(sys.argv[3])
+    lat = asyncio.run(latency(sys.argv[1], work))
+    st = asyncio.run(stall(sys.argv[2], work))
+    enter, keys = lat["enter"], lat["keys"]
+    print(
+        json.dumps(
+            {
+                "first_answer": lat["first_answer"],
+                "p50": float(np.median(enter)),
+                "max": float(np.max(enter)),
+                "n": len(enter),
+                "key_p50": float(np.median(keys)),
+                "key_max": float(np.max(keys)),
+                "keys": len(keys),
+                "stall": st,
+            }
+        )
+    )
 
 
 if __name__ == "__main__":
