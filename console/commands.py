@@ -106,6 +106,9 @@ def info_dict(session: Session) -> dict[str, Any]:
                 "queries_missing_a_neighbour": idx.missing_share if idx.recall_frequent else None,
                 "recall_sample": idx.recall_sample,
                 "calc_search_k": idx.calc_search_k,
+                # top-1 agreement of the index with an exact scan on b - a + c vectors (half of them of frequent
+                # words); analogies use the index only with calc_search_k set.
+                "calc_top1_agreement": idx.calc_top1_agreement,
             }
         )
     sub = vs.meta.subwords
@@ -155,6 +158,12 @@ def _print_info(d: dict[str, Any]) -> None:
             lines.append(
                 f"         {100 * idx['queries_missing_a_neighbour']:.1f}% of sample queries lose a true neighbour"
             )
+        agree = idx.get("calc_top1_agreement") or 0.0
+        lines.append(
+            f"analogy  index, search_k {idx['calc_search_k']} (top-1 agreement with exact search {agree:.3f})"
+            if idx.get("calc_search_k")
+            else f"analogy  exact search (the index's best top-1 agreement was {agree:.3f})"
+        )
     elif idx["state"] == "rejected":
         lines.append(f"index    rejected: {visible(idx['reason'])} (`wordkin prepare` rebuilds it)")
     elif d["cache"]:

@@ -115,11 +115,9 @@ def _pool() -> Any:
 
 
 class Shards:
-    """Several annoy indexes over the same items, queried in parallel (annoy releases the GIL while it searches).
-
-    Each shard holds part of the trees and gets its share of ``search_k``; their candidates are pooled. Two
-    shards of 50 trees answer like one of 100 trees in about half the time on two cores (tests/bench).
-    """
+    """One or several annoy indexes over the same items, queried in parallel (annoy releases the GIL while it
+    searches). New builds write one file; indexes built before the projection had two shards, each holding part of
+    the trees and getting its share of ``search_k``, their candidates pooled. They still load."""
 
     def __init__(self, indexes: list[Any]) -> None:
         self.indexes = indexes
@@ -159,6 +157,29 @@ def open_shards(dims: int, paths: list[Path], prefault: bool = False) -> Shards:
         ix.load(str(p), prefault=prefault)
         out.append(ix)
     return Shards(out)
+
+
+def _open_checked(f: int, paths: list[Path], n_words: int) -> Shards:
+    from .errors import WordkinError
+
+    idx = open_shards(f, paths)
+    if idx.get_n_items() != n_words or idx.f != f:
+        idx.unload()
+        raise WordkinError("the cached index does not match the vectors (`wordkin prepare` rebuilds it)")
+    return idx
+
+
+class LazyIndex:
+    """An annoy index (``Shards``) opened at its first use: ``load`` does not map a file that is not in memory."""
+
+    def __init__(self, opener: Any) -> None:
+        self._opener = opener
+        self._index: Any = None
+
+    def __getattr__(self, name: str) -> Any:
+        if self._index is None:
+            self._index = self._opener()
+        return getattr(self._index, name)
 
 
 @dataclass
@@ -265,10 +286,19 @@ def load(vs: Any) -> IndexLoad:
             if projection.shape != (vs.dims, info.projected_dims) or projection.dtype != np.float32:
                 return IndexLoad(IndexState.REJECTED, reason=f"{PROJECTION_FILE} does not match meta.json")
         f = info.projected_dims or vs.dims
-        idx = open_shards(f, paths)
-        if idx.get_n_items() != vs.n or idx.f != f:
-            idx.unload()
-            return IndexLoad(IndexState.REJECTED, reason="the index does not match the vectors")
+        from .residency import WARM_SHARE, resident_share
+
+        share = resident_share(paths[0])
+        warm = share is None or share >= WARM_SHARE
+        if warm:
+            idx: Any = open_shards(f, paths)
+            if idx.get_n_items() != vs.n or idx.f != f:
+                idx.unload()
+                return IndexLoad(IndexState.REJECTED, reason="the index does not match the vectors")
+        else:
+            # Not in memory: queries are answered by the scan for now, so annoy maps the file only once it is
+            # used (and checks it then); a cold query touches nothing of the index but what ``residency`` asks.
+            idx = LazyIndex(lambda: _open_checked(f, paths, vs.n))
         ann = AnnIndex(
             idx,
             info.trees,
@@ -279,6 +309,7 @@ def load(vs: Any) -> IndexLoad:
             projection=projection,
             n_candidates=info.candidates,
             n_words=vs.n,
+            warm=warm,
         )
         return IndexLoad(IndexState.READY, ann)
     except (OSError, ValueError, TypeError) as exc:

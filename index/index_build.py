@@ -1,4 +1,4 @@
-"""Building the annoy index of a cached vector set, in-process for small sets and in child processes otherwise.
+"""Building the annoy index of a cached vector set, in-process for small sets and in a child process otherwise.
 
 annoy's ``build()`` releases the GIL but reports nothing and cannot be interrupted: large sets are built by
 an ``ann_child`` subprocess (a plain subprocess, so it shares no threads or file descriptors with a running app),

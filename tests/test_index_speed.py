@@ -46,6 +46,7 @@ def test_info_reports_both_samples_and_a_cache_within_twice_the_matrix(set300, m
     assert 0 <= idx["queries_missing_a_neighbour"] <= 0.2
     assert idx["projected_dims"] == ann.PROJECTED_DIMS and idx["candidates"] in ann.CANDIDATE_LADDER
     assert idx["trees"] == ann.default_trees(300) == ann.MAX_TREES
+    assert idx["calc_top1_agreement"] >= 0.99 or idx["calc_search_k"] is None
     folder = Path(info["cache"])
     assert idx["index_bytes"] == (folder / ann.INDEX_FILE).stat().st_size
     matrix = 4 * info["words"] * info["dims"]
@@ -57,10 +58,11 @@ def test_info_reports_both_samples_and_a_cache_within_twice_the_matrix(set300, m
 def test_a_cold_index_file_is_answered_exactly(set300, monkeypatch):
     path, cache = set300
     vs = open_vectors(path, cache_root=cache)
-    loaded = ann.load(vs)
-    assert loaded.index is not None
     share = [0.1]
     monkeypatch.setattr(residency, "resident_share", lambda p: share[0])
+    loaded = ann.load(vs)
+    assert loaded.index is not None and isinstance(loaded.index.index, ann.LazyIndex)
+    assert loaded.index.index._index is None  # annoy has not mapped the cold file
     session = Session.from_load(vs, loaded)
     q = np.asarray(vs.unit[5])
     rows, _, mode = top_for_vector(vs, q, 10, [5], ann=session.index)
@@ -70,6 +72,7 @@ def test_a_cold_index_file_is_answered_exactly(set300, monkeypatch):
     share[0] = 0.95
     _, _, mode = top_for_vector(vs, q, 10, [5], ann=session.index)
     assert mode == "ann" and session.answering().startswith("index, recall@10")
+    assert loaded.index.index._index is not None  # mapped (and checked) at its first use
     share[0] = 0.0  # once warm, not checked again (a query costs no system call)
     assert top_for_vector(vs, q, 10, [5], ann=session.index)[2] == "ann"
 
