@@ -7,6 +7,7 @@ sample is drawn with a fixed seed, so the same vectors give the same axes and th
 
 from __future__ import annotations
 
+import time
 from typing import Any
 
 import numpy as np
@@ -26,9 +27,12 @@ def principal_axes(unit: Any, zero_rows: np.ndarray, out_dims: int, sample: int 
     if len(pool) > sample:
         pool = np.sort(np.random.default_rng(SEED).choice(pool, size=sample, replace=False))
     gram = np.zeros((dims, dims), dtype=np.float64)
-    for s in range(0, len(pool), 10_000):
-        block = np.asarray(unit[pool[s : s + 10_000]], dtype=np.float64)
+    for s in range(0, len(pool), 2_000):
+        # Small blocks, with a yield between them: gathering rows holds the GIL, and a console's UI thread may be
+        # waiting for it (the index is built while the console answers queries).
+        block = np.asarray(unit[pool[s : s + 2_000]], dtype=np.float64)
         gram += block.T @ block
+        time.sleep(0)
     values, vectors = np.linalg.eigh(gram)
     top = vectors[:, np.argsort(-values, kind="stable")[:out_dims]]
     signs = np.sign(top[np.abs(top).argmax(axis=0), np.arange(top.shape[1])])

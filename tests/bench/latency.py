@@ -67,11 +67,11 @@ def main() -> None:
         top_for_vector(vs, np.asarray(vs.unit[r]), 10, [int(r)], ann=loaded.index, mode="ann")
         t_force.append(time.perf_counter() - t0)
     c_ann, c_gen, agree = [], [], 0
-    # Analogies over frequent words (the first 2,000) and over random words, half each.
+    # 400 analogies: over frequent words (the first 2,000) and over random words, half each.
     triples = np.concatenate(
         [
-            np.stack([rng.choice(2000, 3, replace=False) for _ in range(100)]),
-            np.stack([rng.choice(vs.n, 3, replace=False) for _ in range(100)]),
+            np.stack([rng.choice(2000, 3, replace=False) for _ in range(200)]),
+            np.stack([rng.choice(vs.n, 3, replace=False) for _ in range(200)]),
         ]
     )
     exprs = [" ".join((vs.words[int(b)], "-", vs.words[int(a)], "+", vs.words[int(c)])) for a, b, c in triples]
