@@ -55,7 +55,7 @@ class Session:
             meta = self.vectors.meta.index
             if meta.recall_frequent and meta.recall_random:
                 # Both samples: the words people type and words drawn at random (mostly rare ones).
-                return f"index, recall@10 {meta.recall_frequent:.3f} frequent · {meta.recall_random:.3f} random"
+                return f"index, recall@10 {meta.recall_frequent:.3f} / {meta.recall_random:.3f}"
             return f"index, recall@10 {self.index.recall_at_10:.3f}"
         if s is IndexState.BUILDING:
             return "exact search, index building"
