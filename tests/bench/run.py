@@ -25,6 +25,7 @@ import tempfile
 import time
 from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -75,6 +76,28 @@ def proc_rss(cmd: list[str], env: dict[str, str] | None = None) -> tuple[float, 
     if report["rc"] != 0:
         raise SystemExit(f"failed ({report['rc']}): {' '.join(cmd)}")
     return dt, int(report["maxrss"]), p.stdout.decode()
+
+
+def save_native(binary: Path, native: Path) -> None:
+    """gensim's own memory-mappable format of ``binary``, for its warm-open and query rows."""
+    subprocess.run(
+        [
+            PY,
+            "-c",
+            "from gensim.models import KeyedVectors as K; "
+            f"K.load_word2vec_format({str(binary)!r}, binary=True).save({str(native)!r})",
+        ],
+        check=True,
+    )
+
+
+def run_json(module: str, args: list[str], env: dict[str, str]) -> dict[str, Any]:
+    """Run ``python -m module args`` with ``env`` added; its last stdout line, parsed (its stderr on failure)."""
+    p = subprocess.run([PY, "-m", module, *args], env={**os.environ, **env}, cwd=ROOT, capture_output=True, text=True)
+    if p.returncode != 0:
+        raise SystemExit(p.stderr)
+    out: dict[str, Any] = json.loads(p.stdout.strip().splitlines()[-1])
+    return out
 
 
 def gensim_load(path: Path, binary: bool) -> list[str]:
@@ -157,15 +180,7 @@ def bench_size(
         checks.append(Check(f"{label} cache / float32 matrix", size / mat_bytes, 2.0, False, "x"))
     # 3. Warm open to first answer: a second `wordkin near` against gensim's own memory-mapped native format.
     native = work / f"native-{label}.kv"
-    subprocess.run(
-        [
-            PY,
-            "-c",
-            "from gensim.models import KeyedVectors as K; "
-            f"K.load_word2vec_format({str(files['binary'])!r}, binary=True).save({str(native)!r})",
-        ],
-        check=True,
-    )
+    save_native(files["binary"], native)
     word = "w000123"
     ours_cmd = [PY, "-m", "wordkin.console.cli", "near", str(main), word, "--json"]
     gen_cmd = [
@@ -215,16 +230,7 @@ def bench_size(
     else:
         rows.append(f"| {label} | first query after dropping the page cache | not measured | - | needs root |")
     # 4. In-process query latency.
-    inproc = subprocess.run(
-        [PY, "-m", "tests.bench.latency", str(main), str(native)],
-        env={**os.environ, **env},
-        cwd=ROOT,
-        capture_output=True,
-        text=True,
-    )
-    if inproc.returncode != 0:
-        raise SystemExit(inproc.stderr)
-    lat = json.loads(inproc.stdout.strip().splitlines()[-1])
+    lat = run_json("tests.bench.latency", [str(main), str(native)], env)
     rows.append(
         f"| {label} | neighbours p50 / p99, default (index + exact re-rank) | {lat['ann_p50']:.2f} / "
         f"{lat['ann_p99']:.2f} ms | {lat['gensim_p50']:.2f} ms | exact scan p50 {lat['exact_p50']:.2f} ms; "
@@ -251,16 +257,7 @@ def bench_size(
                 f.write(f": section-{s}\n")
                 for _ in range(500):
                     f.write(" ".join(f"w{rng.randrange(n):06d}" for _ in range(4)) + "\n")
-        sc = subprocess.run(
-            [PY, "-m", "tests.bench.scoring", str(files["text"]), str(native), str(q)],
-            env={**os.environ, **env},
-            cwd=ROOT,
-            capture_output=True,
-            text=True,
-        )
-        if sc.returncode != 0:
-            raise SystemExit(sc.stderr)
-        s = json.loads(sc.stdout.strip().splitlines()[-1])
+        s = run_json("tests.bench.scoring", [str(files["text"]), str(native), str(q)], env)
         rows.append(
             f"| {label} | score 2,000 analogy questions | {s['ours']:.2f} s | {s['gensim']:.2f} s | "
             f"{s['gensim'] / s['ours']:.1f}x (same counts: {s['same']}) |"
@@ -297,28 +294,16 @@ def machine() -> str:
 def bench_crossover(n: int, rows: list[str], work: Path) -> None:
     """Where the index starts to pay: its p50 against the exact scan's on a small set (same process, same BLAS)."""
     files = synth.ensure(n, kinds=("binary",))
-    env = {**os.environ, "WORDKIN_CACHE": str(work / f"cache-{label_of(n)}")}
-    subprocess.run([PY, "-m", "wordkin.console.cli", "prepare", str(files["binary"])], env=env, cwd=ROOT, check=True)
-    native = work / f"native-{label_of(n)}.kv"
+    env = {"WORDKIN_CACHE": str(work / f"cache-{label_of(n)}")}
     subprocess.run(
-        [
-            PY,
-            "-c",
-            "from gensim.models import KeyedVectors as K; "
-            f"K.load_word2vec_format({str(files['binary'])!r}, binary=True).save({str(native)!r})",
-        ],
+        [PY, "-m", "wordkin.console.cli", "prepare", str(files["binary"])],
+        env={**os.environ, **env},
+        cwd=ROOT,
         check=True,
     )
-    p = subprocess.run(
-        [PY, "-m", "tests.bench.latency", str(files["binary"]), str(native)],
-        env=env,
-        cwd=ROOT,
-        capture_output=True,
-        text=True,
-    )
-    if p.returncode != 0:
-        raise SystemExit(p.stderr)
-    lat = json.loads(p.stdout.strip().splitlines()[-1])
+    native = work / f"native-{label_of(n)}.kv"
+    save_native(files["binary"], native)
+    lat = run_json("tests.bench.latency", [str(files["binary"]), str(native)], env)
     rows.append(
         f"| {label_of(n)} | neighbours p50, index forced / exact scan | {lat['forced_p50']:.2f} / "
         f"{lat['exact_p50']:.2f} ms | {lat['gensim_p50']:.2f} ms | index {lat['forced_p50'] / lat['exact_p50']:.2f} of "
@@ -355,23 +340,11 @@ def main() -> int:
         if not args.no_tui:
             # The console on the largest set with a text file (its index prepared above, in the same cache).
             n_tui = max(n for n, kinds in sizes if "text" in kinds)
-            t = subprocess.run(
-                [
-                    PY,
-                    "-m",
-                    "tests.bench.tui",
-                    str(synth.ensure(n_tui)["text"]),
-                    str(synth.ensure(100_000)["text"]),
-                    str(work),
-                ],
-                env={**os.environ, "WORDKIN_CACHE": str(work / f"cache-{label_of(n_tui)}")},
-                cwd=ROOT,
-                capture_output=True,
-                text=True,
+            tui = run_json(
+                "tests.bench.tui",
+                [str(synth.ensure(n_tui)["text"]), str(synth.ensure(100_000)["text"]), str(work)],
+                {"WORDKIN_CACHE": str(work / f"cache-{label_of(n_tui)}")},
             )
-            if t.returncode != 0:
-                raise SystemExit(t.stderr)
-            tui = json.loads(t.stdout.strip().splitlines()[-1])
             lt = label_of(n_tui)
             rows.append(
                 f"| {lt} | console: start to first answer (load, completion list, first Enter) | "
