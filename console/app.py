@@ -165,10 +165,9 @@ class WordkinApp(App[int]):
                     cancel=lambda: worker.is_cancelled,
                 )
                 old.lookup()
-            loaded = load(vs)
-            if loaded.index is not None:
-                loaded.index.is_warm()  # checked here, off the UI thread; a cold index is read in after the load
-            session = Session.from_load(vs, loaded, against=old)
+            # load() also asks, here off the UI thread, whether the index file is in memory (a cold one is read in
+            # after the load).
+            session = Session.from_load(vs, load(vs), against=old)
         except CancelledError:
             return
         except WordkinError as exc:
