@@ -206,7 +206,7 @@ class MatrixWriter:
         self._f.write(npy_header((0, dims)))
 
     def append(self, rows: np.ndarray) -> None:
-        self._f.write(np.ascontiguousarray(rows, dtype="<f4").tobytes())
+        self._f.write(np.ascontiguousarray(rows, dtype="<f4").data.cast("B"))
         self.rows += len(rows)
 
     def close(self) -> None:

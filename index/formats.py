@@ -186,13 +186,14 @@ def read_batches(
     det: Detected, progress: ProgressFn | None = None, batch_rows: int = 65536, workdir: Path | None = None
 ) -> Iterator[Batch]:
     """Yield the file's rows in order. Malformed rows raise ``UnreadableFileError`` naming file and line.
-    ``workdir`` is the cache being built: a fastText model writes its n-gram matrix there."""
+    ``workdir`` is the cache being built: a fastText model writes its n-gram matrix there, a large text file the
+    rows its later parts parsed ahead (see ``text_parts``)."""
     if det.kind == "fasttext-bin":
         if workdir is None:
             raise ValueError("a fastText model is read into a cache directory")
         return read_fasttext.read(det, progress, workdir)
     if det.kind in ("word2vec-text", "glove-text"):
-        return read_text.read(det, progress)
+        return read_text.read(det, progress, workdir)
     if det.kind == "word2vec-binary":
         return read_binary.read(det, progress, batch_rows)
     if det.kind == "npy":

@@ -230,7 +230,11 @@ def _build(
                 raise UnreadableFileError(str(det.path), f"row width {vec.shape[1]} is not {det.dims}")
             norms = np.sqrt(np.einsum("ij,ij->i", vec, vec, dtype=np.float64)).astype(np.float32)
             safe = np.where(norms > 0, norms, 1.0).astype(np.float32)
-            writer.append(vec / safe[:, None])
+            if vec.flags.owndata and vec.flags.writeable:
+                vec /= safe[:, None]  # the reader's own fresh array: normalised in place, no copy
+            else:
+                vec = vec / safe[:, None]  # a view of a mapped or shared matrix: never written to
+            writer.append(vec)
             norm_parts.append(norms)
             words.extend(batch.words)
     finally:
