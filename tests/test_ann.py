@@ -110,3 +110,37 @@ def test_principal_axes_span_the_top_singular_vectors_and_are_deterministic():
     b = principal_axes(unit, np.array([0, 1], dtype=np.int64), 8, sample=2000)
     assert np.array_equal(b, principal_axes(unit, np.array([0, 1], dtype=np.int64), 8, sample=2000))
     assert np.linalg.norm(b @ b.T - v @ v.T) < 1.0  # of at most 4 (sqrt(2 * 8)) for unrelated subspaces
+
+
+def test_agreement_bound_is_scipys_wilson_interval():
+    from scipy.stats import binomtest
+
+    from wordkin.index.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound
+
+    for k, n in [(600, 600), (599, 600), (597, 600), (180, 200), (3, 10), (0, 50)]:
+        # A two-sided 90% interval has the one-sided 95% bound as its lower end.
+        ref = binomtest(k, n).proportion_ci(confidence_level=0.90, method="wilson").low
+        assert abs(agreement_lower_bound(k, n) - ref) < 1e-9, (k, n)
+    # What the rule lets through on the build's sample: at most one answer of 600 may differ.
+    assert agreement_lower_bound(CALC_SAMPLE - 1, CALC_SAMPLE) >= TARGET_AGREEMENT
+    assert agreement_lower_bound(CALC_SAMPLE - 2, CALC_SAMPLE) < TARGET_AGREEMENT
+
+
+def test_analogy_search_k_is_raised_or_refused_on_a_weak_index(tmp_path):
+    from wordkin.index.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound, choose_calc_search_k
+
+    n, d = 20_000, 48
+    x = structured_set(n, d, seed=9, clusters=400)
+    np.save(tmp_path / "w.npy", x)
+    (tmp_path / "w.words.txt").write_text("\n".join(f"w{i:05d}" for i in range(n)) + "\n")
+    vs = open_vectors(tmp_path / "w.npy", cache_root=tmp_path / "c")
+    build(vs, n_trees=1)
+    idx = ann.load(vs).index
+    assert idx is not None
+    weak = idx.with_search(10)
+    sk, agree = choose_calc_search_k(vs, weak)
+    if sk is None:  # nothing within the ladder both clears the bound and is worth the index's work
+        assert agreement_lower_bound(round(agree * CALC_SAMPLE), CALC_SAMPLE) < TARGET_AGREEMENT
+    else:
+        assert sk > 10 and agreement_lower_bound(round(agree * CALC_SAMPLE), CALC_SAMPLE) >= TARGET_AGREEMENT
+    assert choose_calc_search_k(vs, weak) == (sk, agree)  # deterministic
