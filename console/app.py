@@ -207,9 +207,9 @@ class WordkinApp(App[int]):
         status = self.status()
         if status is None:
             return
-        status.summary = f"· {vs.n:,} words · {vs.dims} dims"
+        status.counts = (vs.n, vs.dims)
         if session.against is not None:
-            status.summary += f" · vs {os.path.basename(str(session.against.source))}"
+            status.against = os.path.basename(str(session.against.source))
         notices = ([self.keymap_warning] if self.keymap_warning else []) + list(vs.warnings)
         if session.state is IndexState.REJECTED:
             notices.append(f"index rejected ({session.reason}); rebuilding it")

@@ -186,6 +186,22 @@ def _pair_files(tmp_path):
     return words, old, new
 
 
+def test_status_line_shortens_counts_and_names_before_the_mode():
+    from rich.cells import cell_len
+
+    from wordkin.console.status_line import SEP, status_parts
+
+    mode = "exact search: small set"
+    full = status_parts("brackwater.vec", (12_000, 48), "", mode, 80)
+    assert full == ("brackwater.vec", "  · 12,000 words · 48 dims", mode)  # room enough: nothing shortened
+    src, mid, m = status_parts("brackwater-2026-11.vec", (12_000, 48), "brackwater-2026-10-release.vec", mode, 80)
+    assert m == mode and mid.startswith("  · 12,000 × 48 · vs ") and cell_len(src + mid + SEP + m) <= 80
+    assert src.startswith("brackwa") and src.endswith(".vec") and "…" in src and "…" in mid  # cut in the middle
+    # Untrusted names are escaped before they are measured and cut.
+    src, _, _ = status_parts("bad\x1b[31mname.vec", None, "", mode, 80)
+    assert "\x1b" not in src and "\\x1b" in src
+
+
 def test_console_against_columns_and_comparison_pane(tmp_path):
     import asyncio
 
@@ -198,12 +214,20 @@ def test_console_against_columns_and_comparison_pane(tmp_path):
     from .test_console import SIZE, wait_for
 
     words, old, new = _pair_files(tmp_path)
+    # Names as long as a release's: the status line must still say, whole, how queries are answered at 80 columns.
+    old = old.rename(tmp_path / "harbour-terms-2026-10-release.vec")
+    new = new.rename(tmp_path / "harbour-terms-2026-11-candidate.vec")
     seen: list = []
 
     async def main():
         app = create_app(str(new), notebook=str(tmp_path / "nb.wkn"), build_index=False, against=str(old))
         async with app.run_test(size=SIZE, message_hook=seen.append) as pilot:
             await wait_for(pilot, lambda: app.session is not None and app.session.against is not None)
+            status = app.query_one("StatusLine")
+            await wait_for(pilot, lambda: status.against != "" and "search" in status.mode)
+            await pilot.pause()
+            line = str(app.query_one("#status-text", Static).render())
+            assert status.mode in line and "vs harbour" in line and "…" in line, line
             await pilot.press(*"w0003", "enter")
             await wait_for(pilot, lambda: any(isinstance(m, NeighboursPane.Compared) for m in seen))
             table = app.query_one("#nb-table", DataTable)
