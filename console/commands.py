@@ -162,7 +162,7 @@ def _print_info(d: dict[str, Any]) -> None:
         lines.append(
             f"analogy  index, search_k {idx['calc_search_k']} (top-1 agreement with exact search {agree:.3f})"
             if idx.get("calc_search_k")
-            else f"analogy  exact search (the index's best top-1 agreement was {agree:.3f})"
+            else f"analogy  exact search (the index agreed on {agree:.3f} of sample analogies; 1 in 600 may differ)"
         )
     elif idx["state"] == "rejected":
         lines.append(f"index    rejected: {visible(idx['reason'])} (`wordkin prepare` rebuilds it)")

@@ -169,7 +169,7 @@ class _Part(threading.Thread):
 
     def close(self) -> None:
         self.stop.set()
-        if self.is_alive():
+        if self.ident is not None and self.is_alive():
             self.join()
         if self.spill is not None:
             self.spill.close()
@@ -186,7 +186,7 @@ def read_parts(
 ) -> Iterator[Batch]:
     """Rows of every range in file order; raises ``FastPathGaveUp`` after the last regular row handed on."""
     total = ranges[-1][1]
-    parts = [_Part(det, a, b, block_size, spill_dir, live=i == 0) for i, (a, b) in enumerate(ranges)]
+    parts: list[_Part] = []
     row = 0
 
     def report() -> None:
@@ -194,6 +194,8 @@ def read_parts(
             progress(sum(p.bytes_done for p in parts), total, "parsing")
 
     try:
+        for i, (a, b) in enumerate(ranges):
+            parts.append(_Part(det, a, b, block_size, spill_dir, live=i == 0))
         for p in parts:
             p.start()
         for i, p in enumerate(parts):

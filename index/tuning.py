@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import math
 import time
-from statistics import NormalDist
 from dataclasses import dataclass
+from statistics import NormalDist
 from typing import Any
 
 import numpy as np
