@@ -9,6 +9,7 @@ figures go into the cache's metadata.
 
 from __future__ import annotations
 
+import json
 import os
 import time
 from pathlib import Path
@@ -31,7 +32,7 @@ from .ann import (
 from .errors import CancelledError, WordkinError
 from .progress import CancelFn, ProgressFn
 from .projection import principal_axes
-from .tuning import choose_calc_search_k, choose_search_k
+from .tuning import RecallEstimate, choose_calc_search_k, choose_search_k
 
 
 def _add_and_build(
@@ -92,15 +93,14 @@ def build(
         axes_arg = str(tmp_axes) if axes is not None else None
         if in_process:
             _add_and_build(matrix, str(tmp), f, trees, seed, lambda st, d, t: report(d, t, f"index: {st}"), axes_arg)
+            build_s = time.perf_counter() - t0
+            est, calc_sk, agree = tune(vs, tmp, trees, axes, lambda st: report(0, 0, f"index: {st}"), cancel)
         else:
-            _build_in_children(matrix, [tmp], f, [trees], seed, report, cancel, axes_arg)
-        build_s = time.perf_counter() - t0
-        idx = AnnIndex(open_shards(f, [tmp]), trees, 0, 1.0, None, projection=axes, n_words=vs.n)
-        report(0, 0, "index: measuring recall@10")
-        est = choose_search_k(vs, idx, cancel=cancel)
-        report(0, 0, "index: checking analogies")
-        calc_sk, agree = choose_calc_search_k(vs, idx.with_search(est.search_k, est.candidates), cancel=cancel)
-        idx.index.unload()
+            # The child also measures recall and analogies: annoy's queries hold the GIL (a 75 ms UI stall was
+            # measured when the console's own thread ran them), and the child runs below the UI in the scheduler.
+            tuned = _build_in_children(matrix, [tmp], f, [trees], seed, report, cancel, axes_arg, str(cache_dir))
+            build_s = float(tuned["build_seconds"])
+            est, calc_sk, agree = RecallEstimate(**tuned["recall"]), tuned["calc_search_k"], tuned["agreement"]
         for i in range(1, 4):
             (cache_dir / shard_file(i)).unlink(missing_ok=True)
         final = cache_dir / shard_file(0)
@@ -140,6 +140,22 @@ def build(
     return loaded.index
 
 
+def tune(
+    vs: Any, path: Path, trees: int, axes: np.ndarray | None, stage: Any, cancel: CancelFn | None
+) -> tuple[RecallEstimate, int | None, float]:
+    """Measure the index just built at ``path``: its search_k and candidates (recall), then analogies' search_k."""
+    f = axes.shape[1] if axes is not None else vs.dims
+    idx = AnnIndex(open_shards(f, [path]), trees, 0, 1.0, None, projection=axes, n_words=vs.n)
+    try:
+        stage("measuring recall@10")
+        est = choose_search_k(vs, idx, cancel=cancel)
+        stage("checking analogies")
+        calc_sk, agree = choose_calc_search_k(vs, idx.with_search(est.search_k, est.candidates), cancel=cancel)
+    finally:
+        idx.index.unload()
+    return est, calc_sk, agree
+
+
 def _build_in_children(
     matrix: str,
     outs: list[Path],
@@ -149,8 +165,11 @@ def _build_in_children(
     report: ProgressFn,
     cancel: CancelFn | None,
     projection: str | None = None,
-) -> None:
+    tune_in: str | None = None,
+) -> dict[str, Any]:
     """Run one ``ann_child`` subprocess per output file at once, relaying the first's progress; kill all on cancel.
+    With ``tune_in`` (the cache directory), the first child also measures the index (``tune``) and its figures
+    are returned.
 
     Plain subprocesses, not multiprocessing: they need no file descriptors of the parent (a Textual app replaces
     stdout and stderr with objects that have none) and share no threads with it.
@@ -162,7 +181,8 @@ def _build_in_children(
     child = __name__.rsplit(".", 1)[0] + ".ann_child"
     procs = [
         subprocess.Popen(
-            [sys.executable, "-m", child, matrix, str(out), str(dims), str(t), str(seed + k), projection or "-"],
+            [sys.executable, "-m", child, matrix, str(out), str(dims), str(t), str(seed + k), projection or "-"]
+            + ([tune_in] if tune_in and k == 0 else []),
             stdin=subprocess.DEVNULL,
             stdout=subprocess.PIPE,
             stderr=subprocess.PIPE,
@@ -174,6 +194,7 @@ def _build_in_children(
     for k, p in enumerate(procs):
         assert p.stdout is not None
         sel.register(p.stdout, selectors.EVENT_READ, k)
+    tuned: dict[str, Any] = {}
     bufs = [b""] * len(procs)
     done = [False] * len(procs)
     open_pipes = len(procs)
@@ -193,6 +214,8 @@ def _build_in_children(
                     parts = line.decode().split()
                     if parts[:1] == ["p"] and len(parts) == 4 and k == 0:
                         report(int(parts[2]), int(parts[3]), "index: " + parts[1].replace("_", " "))
+                    elif parts[:1] == ["tuned"] and k == 0:
+                        tuned = json.loads(line.decode()[len("tuned ") :])
                     elif parts == ["done"]:
                         done[k] = True
         for p in procs:
@@ -201,6 +224,9 @@ def _build_in_children(
             if not done[k] or p.returncode != 0:
                 err = p.stderr.read().decode(errors="replace").strip().splitlines() if p.stderr else []
                 raise WordkinError(f"index build failed (exit {p.returncode}): {err[-1] if err else 'no message'}")
+        if tune_in and not tuned:
+            raise WordkinError("index build failed: the builder reported no measurements")
+        return tuned
     finally:
         sel.close()
         for p in procs:

@@ -207,6 +207,14 @@ def open_vectors(
     return vs
 
 
+def open_cache_dir(dir_: Path) -> VectorSet:
+    """Map an existing cache directory as it is (no source file needed): for the index builder's child process."""
+    meta = cache.read_meta(dir_)
+    if meta is None:
+        raise UnreadableFileError(str(dir_), "is not a wordkin cache (meta.json missing or of another layout)")
+    return _map(Path(meta.source), dir_, meta, meta.fingerprint, dir_)
+
+
 def _build(
     det: Detected,
     dir_: Path,
