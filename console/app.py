@@ -236,7 +236,6 @@ class WordkinApp(App[int]):
     @work(thread=True, exclusive=True, exit_on_error=False, group="index", description="build annoy index")
     def build_ann(self, session: Session) -> None:
         worker = get_current_worker()
-        background_priority()
         try:
             idx = build(session.vectors, progress=self._report_index, cancel=lambda: worker.is_cancelled)
         except CancelledError:
@@ -339,17 +338,6 @@ class WordkinApp(App[int]):
     def action_screenshot_svg(self) -> None:
         path = self.save_screenshot(path=os.environ.get("WORDKIN_SCREENSHOTS", "."))
         self.notify(f"saved {path}", markup=False)
-
-
-def background_priority() -> None:
-    """Lower the calling thread's CPU priority (Linux: nice is per thread), so that slow work in a worker thread
-    leaves the UI thread a core when both cores are busy. Elsewhere, or when not allowed, nothing changes."""
-    import threading
-
-    try:
-        os.setpriority(os.PRIO_PROCESS, threading.get_native_id(), 10)
-    except (AttributeError, OSError):
-        pass
 
 
 def create_app(path: str, args: argparse.Namespace | None = None, **kw: Any) -> WordkinApp:

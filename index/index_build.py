@@ -12,6 +12,7 @@ from __future__ import annotations
 import json
 import os
 import time
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -141,7 +142,7 @@ def build(
 
 
 def tune(
-    vs: Any, path: Path, trees: int, axes: np.ndarray | None, stage: Any, cancel: CancelFn | None
+    vs: Any, path: Path, trees: int, axes: np.ndarray | None, stage: Callable[[str], None], cancel: CancelFn | None
 ) -> tuple[RecallEstimate, int | None, float]:
     """Measure the index just built at ``path``: its search_k and candidates (recall), then analogies' search_k."""
     f = axes.shape[1] if axes is not None else vs.dims

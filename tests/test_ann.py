@@ -61,15 +61,19 @@ def test_child_process_build_and_cancel(tmp_path):
     assert not list(vs.cache_dir.glob(".annoy*tmp"))
 
 
+def _clustered_set(tmp_path, seed: int, n: int = 20_000, d: int = 48):
+    """A cached .npy set of ``n`` x ``d`` rows in 400 clusters, words ``w00000``..."""
+    x = structured_set(n, d, seed=seed, clusters=400)
+    np.save(tmp_path / "w.npy", x)
+    (tmp_path / "w.words.txt").write_text("\n".join(f"w{i:05d}" for i in range(n)) + "\n")
+    return open_vectors(tmp_path / "w.npy", cache_root=tmp_path / "c")
+
+
 def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_path):
     from wordkin.index.ann import RECALL_MARGIN, TARGET_RECALL
     from wordkin.index.tuning import _truth, choose_search_k, measure_recall, recall_samples
 
-    n, d = 20_000, 48
-    x = structured_set(n, d, seed=5, clusters=400)
-    np.save(tmp_path / "w.npy", x)
-    (tmp_path / "w.words.txt").write_text("\n".join(f"w{i:05d}" for i in range(n)) + "\n")
-    vs = open_vectors(tmp_path / "w.npy", cache_root=tmp_path / "c")
+    vs = _clustered_set(tmp_path, seed=5)
     frequent, random = recall_samples(vs)
     assert list(frequent[:3]) == [0, 1, 2] and len(frequent) == len(random) == 500  # file order first
     assert not set(frequent) & set(random)
@@ -129,11 +133,7 @@ def test_agreement_bound_is_scipys_wilson_interval():
 def test_analogy_search_k_is_raised_or_refused_on_a_weak_index(tmp_path):
     from wordkin.index.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound, choose_calc_search_k
 
-    n, d = 20_000, 48
-    x = structured_set(n, d, seed=9, clusters=400)
-    np.save(tmp_path / "w.npy", x)
-    (tmp_path / "w.words.txt").write_text("\n".join(f"w{i:05d}" for i in range(n)) + "\n")
-    vs = open_vectors(tmp_path / "w.npy", cache_root=tmp_path / "c")
+    vs = _clustered_set(tmp_path, seed=9)
     build(vs, n_trees=1)
     idx = ann.load(vs).index
     assert idx is not None
