@@ -385,6 +385,9 @@ class TermsPane(NotebookJobsHost, QueryPane):
             )
         if result.rows:
             t.move_cursor(row=min(self.cursor_row, len(result.rows) - 1))
+        # The table measures its new cells when idle; repaint after that, or a terminal can keep showing the words
+        # cut to the width of the column's header (seen under tmux on a new list's first candidates).
+        self.call_after_refresh(t.refresh)
         how = "index" if result.mode == "ann" else "exact"
         opts = ", ".join(result.query.options())
         self.show_message(Text(f"candidates · {opts} · {how} · {result.elapsed_ms:.0f} ms", style="dim"))
