@@ -14,10 +14,10 @@ from collections.abc import Callable
 import numpy as np
 from numpy.typing import NDArray
 
-from .ann import AnnIndex
-from .expr import Analogy, Centroid, Node, Scale, Sum, Word
-from .search import best_of, top_for_vector, use_ann
-from .store import VectorSet
+from wordkin.index.ann.annoy_file import AnnIndex
+from wordkin.index.expressions import Analogy, Centroid, Node, Scale, Sum, Word
+from wordkin.index.search import best_of, top_for_vector, use_ann
+from wordkin.index.vectors import VectorSet
 
 EPSILON = 0.001
 #: Candidates taken from annoy (for the 3CosAdd vector) before 3CosMul re-scores them exactly.

@@ -25,7 +25,7 @@ from typing import Any
 
 import numpy as np
 
-from . import __version__
+from wordkin.index import __version__
 
 #: Bump when the layout changes; older caches are rebuilt.
 CACHE_FORMAT = 1

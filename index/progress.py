@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 
-from .errors import CancelledError
+from wordkin.index.errors import CancelledError
 
 #: ``progress(done, total, stage)``: ``total`` is 0 when the amount of work is unknown (an indeterminate stage).
 ProgressFn = Callable[[int, int, str], None]

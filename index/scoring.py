@@ -21,10 +21,10 @@ from typing import Any
 
 import numpy as np
 
-from .analogy import EPSILON
-from .errors import UnreadableFileError, UsageError
-from .progress import CancelFn, ProgressFn, check
-from .store import VectorSet
+from wordkin.index.analogy import EPSILON
+from wordkin.index.errors import UnreadableFileError, UsageError
+from wordkin.index.progress import CancelFn, ProgressFn, check
+from wordkin.index.vectors import VectorSet
 
 CHUNK = 128
 

@@ -8,9 +8,9 @@ from collections.abc import Sequence
 import numpy as np
 from numpy.typing import NDArray
 
-from .ann import AnnIndex, small_set
-from .errors import UsageError
-from .store import VectorSet
+from wordkin.index.ann.annoy_file import AnnIndex, small_set
+from wordkin.index.errors import UsageError
+from wordkin.index.vectors import VectorSet
 
 MAX_K = 10_000
 

@@ -10,8 +10,8 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 
-from .ann import AnnIndex, IndexLoad, IndexState, small_set
-from .store import VectorSet
+from wordkin.index.ann.annoy_file import AnnIndex, IndexLoad, IndexState, small_set
+from wordkin.index.vectors import VectorSet
 
 
 @dataclass(frozen=True)

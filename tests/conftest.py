@@ -103,36 +103,36 @@ def write_w2v_text(path: Path, words: list[str], vecs: np.ndarray, header: bool 
 
 
 def session_of(vs, ann=None):
-    from wordkin.index.ann import IndexState
+    from wordkin.index.ann.annoy_file import IndexState
     from wordkin.index.session import Session
 
     return Session(vs, ann, IndexState.READY if ann is not None else IndexState.EMPTY)
 
 
 def neighbours(vs, word, k=10, *, ann=None, mode="auto", top=None, **opts):
-    from wordkin.index.queries import Neighbours
+    from wordkin.index.kinds import Neighbours
 
     return Neighbours(word, k, top, exact=mode == "exact", **opts).run(session_of(vs, ann))
 
 
 def calc(vs, expression, k=10, *, method="add", top=None, keep_inputs=False, ann=None, epsilon=None):
     from wordkin.index.analogy import EPSILON
-    from wordkin.index.queries import Arithmetic
+    from wordkin.index.kinds import Arithmetic
 
     q = Arithmetic(expression, k, method, top, keep_inputs)
     return q.run(session_of(vs, ann), epsilon=EPSILON if epsilon is None else epsilon)
 
 
 def similarity(vs, words):
-    from wordkin.index.queries import Similarity
+    from wordkin.index.kinds import Similarity
 
     return Similarity(tuple(words)).run(session_of(vs))
 
 
 def stub_entry(word: str, note: str = ""):
     """A notebook entry for a neighbours query with no rows (store tests that need many small entries)."""
-    from wordkin.console.notebook import Entry
-    from wordkin.index.queries import NeighbourResult, Neighbours
+    from wordkin.console.store.notebook import Entry
+    from wordkin.index.kinds import NeighbourResult, Neighbours
 
     q = Neighbours(word, 1)
     return Entry(q, NeighbourResult(q, word, "exact", (), 1), {"path": "x"}, note)

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import numpy as np
 
-from wordkin.index import ann
-from wordkin.index.index_build import build
+from wordkin.index.ann import annoy_file as ann
+from wordkin.index.ann.build import build
 from wordkin.index.search import exact_top, top_for_vector
-from wordkin.index.store import open_vectors
+from wordkin.index.vectors import open_vectors
 
 from .conftest import neighbours, structured_set
 
@@ -70,8 +70,8 @@ def _clustered_set(tmp_path, seed: int, n: int = 20_000, d: int = 48):
 
 
 def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_path):
-    from wordkin.index.ann import RECALL_MARGIN, TARGET_RECALL
-    from wordkin.index.tuning import _truth, choose_search_k, measure_recall, recall_samples
+    from wordkin.index.ann.annoy_file import RECALL_MARGIN, TARGET_RECALL
+    from wordkin.index.ann.tuning import _truth, choose_search_k, measure_recall, recall_samples
 
     vs = _clustered_set(tmp_path, seed=5)
     frequent, random = recall_samples(vs)
@@ -98,7 +98,7 @@ def test_recall_is_estimated_on_frequent_words_and_a_weak_index_is_tuned_up(tmp_
 
 
 def test_principal_axes_span_the_top_singular_vectors_and_are_deterministic():
-    from wordkin.index.projection import principal_axes
+    from wordkin.index.ann.projection import principal_axes
 
     x = structured_set(3000, 40, seed=3)
     unit = x / np.linalg.norm(x, axis=1, keepdims=True)
@@ -119,7 +119,7 @@ def test_principal_axes_span_the_top_singular_vectors_and_are_deterministic():
 def test_agreement_bound_is_scipys_wilson_interval():
     from scipy.stats import binomtest
 
-    from wordkin.index.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound
+    from wordkin.index.ann.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound
 
     for k, n in [(600, 600), (599, 600), (597, 600), (180, 200), (3, 10), (0, 50)]:
         # A two-sided 90% interval has the one-sided 95% bound as its lower end.
@@ -131,7 +131,7 @@ def test_agreement_bound_is_scipys_wilson_interval():
 
 
 def test_analogy_search_k_is_raised_or_refused_on_a_weak_index(tmp_path):
-    from wordkin.index.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound, choose_calc_search_k
+    from wordkin.index.ann.tuning import CALC_SAMPLE, TARGET_AGREEMENT, agreement_lower_bound, choose_calc_search_k
 
     vs = _clustered_set(tmp_path, seed=9)
     build(vs, n_trees=1)

@@ -9,9 +9,9 @@ import os
 import numpy as np
 import pytest
 
-from wordkin.index import ann
-from wordkin.index.index_build import build
-from wordkin.index.store import open_vectors
+from wordkin.index.ann import annoy_file as ann
+from wordkin.index.ann.build import build
+from wordkin.index.vectors import open_vectors
 
 from .conftest import gensim_data, structured_set, write_w2v_text
 
@@ -26,7 +26,7 @@ def test_second_open_maps_the_cache(small, monkeypatch):
     path, cache = small
     a = open_vectors(path, cache_root=cache)
     assert a.cache_note == "built"
-    import wordkin.index.formats as formats
+    import wordkin.index.readers.detect as formats
 
     def boom(*a, **k):
         raise AssertionError("re-parsed")

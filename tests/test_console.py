@@ -10,12 +10,12 @@ import pytest
 from gensim.models import KeyedVectors
 from textual.widgets import DataTable, Input, Static
 
-from wordkin.console.app import WordkinApp, create_app
-from wordkin.console.pane_arith import ArithmeticPane
-from wordkin.console.pane_neighbours import NeighboursPane
-from wordkin.console.pane_notebook import NotebookPane
-from wordkin.console.pane_similarity import SimilarityPane
-from wordkin.console.safe_text import visible
+from wordkin.console.formats.safe_text import visible
+from wordkin.console.tui.app import WordkinApp, create_app
+from wordkin.console.tui.panes.arithmetic import ArithmeticPane
+from wordkin.console.tui.panes.neighbours import NeighboursPane
+from wordkin.console.tui.panes.notebook import NotebookPane
+from wordkin.console.tui.panes.similarity import SimilarityPane
 
 from .conftest import write_w2v_text
 
@@ -253,7 +253,7 @@ def test_save_from_pane_to_notebook(lee_model, tmp_path):
             await pilot.press("ctrl+s")
             pane = app.query_one(NotebookPane)
             await wait_for(pilot, lambda: len(pane.entries) == 1)
-            from wordkin.console.notebook import Notebook
+            from wordkin.console.store.notebook import Notebook
 
             with Notebook.open(nb) as book:
                 entries = book.entries()
@@ -275,7 +275,7 @@ def test_lee_vectors_written_for_console(tmp_path):
 def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
     from pathlib import Path
 
-    from wordkin.index import ann
+    from wordkin.index.ann import annoy_file as ann
 
     from .conftest import structured_set
 
@@ -303,7 +303,7 @@ def test_quit_during_index_build_is_prompt(tmp_path, monkeypatch):
             args = cmdline.read_bytes().split(b"\0")
         except OSError:
             continue
-        if b"wordkin.index.ann_child" in args and any(str(cache).encode() in a for a in args):
+        if b"wordkin.index.ann.child" in args and any(str(cache).encode() in a for a in args):
             left.append(cmdline)
     assert left == []
     assert not list(cache.rglob("*.tmp"))

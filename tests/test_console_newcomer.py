@@ -9,15 +9,15 @@ import json
 
 from textual.widgets import DataTable, Input, Static
 
-from wordkin.console.app import create_app
-from wordkin.console.notebook import Notebook
-from wordkin.console.pane_arith import ArithmeticPane
-from wordkin.console.pane_base import QueryPane
-from wordkin.console.pane_neighbours import NeighboursPane
-from wordkin.console.pane_notebook import NotebookPane
-from wordkin.console.pane_similarity import SimilarityPane
+from wordkin.console.store.notebook import Notebook
+from wordkin.console.tui.app import create_app
+from wordkin.console.tui.panes.arithmetic import ArithmeticPane
+from wordkin.console.tui.panes.base import QueryPane
+from wordkin.console.tui.panes.neighbours import NeighboursPane
+from wordkin.console.tui.panes.notebook import NotebookPane
+from wordkin.console.tui.panes.similarity import SimilarityPane
 from wordkin.demo_vectors import demo_path
-from wordkin.index.store import from_arrays
+from wordkin.index.vectors import from_arrays
 
 from .conftest import run_cli, session_of
 from .test_console import SIZE, table_words, wait_for
@@ -215,7 +215,7 @@ def test_variant_lookup_and_exact_word(tmp_path):
     import numpy as np
 
     vs = from_arrays(words, np.random.default_rng(3).standard_normal((4, 6)).astype(np.float32))
-    from wordkin.index.queries import Neighbours
+    from wordkin.index.kinds import Neighbours
 
     s = session_of(vs)
     assert Neighbours("new york", 2).run(s).word == "new_york"

@@ -10,7 +10,7 @@ import pytest
 
 from wordkin.demo_vectors import analogies_path, demo_path, pairs_path
 from wordkin.index.scoring import score_analogies, score_pairs
-from wordkin.index.store import open_vectors
+from wordkin.index.vectors import open_vectors
 
 from .conftest import ROOT, neighbours, run_cli
 

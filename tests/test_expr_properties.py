@@ -5,7 +5,7 @@ from __future__ import annotations
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from wordkin.index.expr import Analogy, Centroid, ExprError, Scale, Sum, Word, parse, to_text
+from wordkin.index.expressions import Analogy, Centroid, ExprError, Scale, Sum, Word, parse, to_text
 
 ALPHABET = st.characters(codec="utf-8", exclude_categories=("Cs",))
 

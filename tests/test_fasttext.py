@@ -13,9 +13,9 @@ import numpy as np
 import pytest
 
 from wordkin.index.errors import UnknownWordError, UnreadableFileError
-from wordkin.index.queries import Neighbours, Similarity, TermSuggest
-from wordkin.index.store import open_vectors
+from wordkin.index.kinds import Neighbours, Similarity, TermSuggest
 from wordkin.index.subwords import ngram_buckets
+from wordkin.index.vectors import open_vectors
 
 from .conftest import gensim_data, run_cli, session_of
 
@@ -128,7 +128,7 @@ def test_unknown_words_in_every_query_kind(tmp_path):
     res = Neighbours("harbourfront", 5).run(s)
     assert res.subword is not None and res.subword.ngrams > 0 and res.to_json()["query_vector"] == "subwords"
     assert Neighbours("governmentt", 5).run(s).subword.close[0] == "government"  # close matches, beside the answer
-    from wordkin.index.queries import Arithmetic
+    from wordkin.index.kinds import Arithmetic
 
     calc = Arithmetic("governmentt - government + police", 5).run(s)
     assert [x.word for x in calc.subwords] == ["governmentt"] and calc.to_json()["query_vector"] == "subwords"

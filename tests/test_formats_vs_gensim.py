@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 from gensim.models import KeyedVectors
 
-from wordkin.index.store import open_vectors
+from wordkin.index.vectors import open_vectors
 
 from .conftest import cli_json, gensim_data, neighbours
 

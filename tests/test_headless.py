@@ -159,7 +159,7 @@ def _loaded_after(code: str) -> set[str]:
 
 
 def test_index_imports_no_ui():
-    code = "\n".join(f"import {m}" for m in _modules(wordkin.index) if not m.endswith("ann_child"))
+    code = "\n".join(f"import {m}" for m in _modules(wordkin.index) if not m.endswith("ann.child"))
     loaded = _loaded_after(code)
     assert "textual" not in loaded and "rich" not in loaded
 

@@ -9,10 +9,10 @@ import struct
 import numpy as np
 import pytest
 
-from wordkin.console.export import to_csv, to_json, to_markdown, to_text
-from wordkin.console.notebook import Entry, Notebook
+from wordkin.console.formats.notebook_export import to_csv, to_json, to_markdown, to_text
+from wordkin.console.store.notebook import Entry, Notebook
 from wordkin.index.errors import WordkinError
-from wordkin.index.store import from_arrays
+from wordkin.index.vectors import from_arrays
 
 from .conftest import neighbours, run_cli
 
@@ -162,7 +162,7 @@ def test_very_long_and_empty_words_in_the_console(tmp_path):
 
     from textual.widgets import DataTable
 
-    from wordkin.console.app import create_app
+    from wordkin.console.tui.app import create_app
 
     from .test_console import opened, table_words, wait_for
 

@@ -12,11 +12,12 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from wordkin.index import ann, residency
-from wordkin.index.index_build import build
+from wordkin.index.ann import annoy_file as ann
+from wordkin.index.ann import residency
+from wordkin.index.ann.build import build
 from wordkin.index.search import exact_top, top_for_vector
 from wordkin.index.session import Session
-from wordkin.index.store import open_vectors
+from wordkin.index.vectors import open_vectors
 
 from .conftest import cli_json, structured_set
 
@@ -115,7 +116,7 @@ def test_default_trees_keep_the_index_within_the_matrix():
 
 
 def test_console_reads_a_cold_index_in_and_then_uses_it(set300, monkeypatch):
-    from wordkin.console.app import create_app
+    from wordkin.console.tui.app import create_app
 
     path, cache = set300
     share = [0.0]

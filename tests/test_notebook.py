@@ -17,10 +17,10 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from wordkin.console.export import csv_cell, md_cell, render, to_csv, to_markdown, write_file
-from wordkin.console.notebook import Entry, Notebook
-from wordkin.console.notebook_diff import diff_text, rerun
-from wordkin.index.store import from_arrays
+from wordkin.console.formats.notebook_export import csv_cell, md_cell, render, to_csv, to_markdown, write_file
+from wordkin.console.store.notebook import Entry, Notebook
+from wordkin.console.store.rerun_diff import diff_text, rerun
+from wordkin.index.vectors import from_arrays
 
 from .conftest import ROOT, calc, neighbours, run_cli, session_of, similarity, stub_entry
 
@@ -74,7 +74,7 @@ def test_cli_save_every_kind_then_json_round_trip(tmp_path, lee_model):
 WRITER = """
 import sys
 from tests.conftest import stub_entry
-from wordkin.console.notebook import Notebook
+from wordkin.console.store.notebook import Notebook
 nb = Notebook.open(sys.argv[1])
 tag = sys.argv[2]
 for i in range(int(sys.argv[3])):

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import pytest
 
-from wordkin.console.output_file import current_umask, write_output
+from wordkin.console.formats.output_file import current_umask, write_output
 from wordkin.index.errors import UnreadableFileError, UsageError
 
 from .conftest import ROOT, run_cli
@@ -21,7 +21,7 @@ from .conftest import ROOT, run_cli
 def test_new_files_honour_the_umask(tmp_path):
     code = (
         "import os, sys; os.umask(0o022)\n"
-        "from wordkin.console.output_file import write_output\n"
+        "from wordkin.console.formats.output_file import write_output\n"
         "write_output(sys.argv[1], 'x')\n"
     )
     out = tmp_path / "e.txt"

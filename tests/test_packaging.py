@@ -31,8 +31,16 @@ def test_wheel_holds_only_the_wordkin_package(tmp_path):
     names = zipfile.ZipFile(wheel).namelist()
     tops = {n.split("/")[0] for n in names}
     assert tops == {"wordkin", next(t for t in tops if t.endswith(".dist-info"))}, tops
-    for want in ("wordkin/index/queries.py", "wordkin/console/app.tcss", "wordkin/demo_vectors/brackwater.vec.gz"):
+    for want in (
+        "wordkin/index/kinds/__init__.py",
+        "wordkin/console/tui/app.tcss",
+        "wordkin/demo_vectors/brackwater.vec.gz",
+    ):
         assert want in names
+    # Every module of the three folders is in the wheel (a new subpackage not listed in pyproject.toml would be lost).
+    for folder in ("index", "console", "demo_vectors"):
+        for src in (ROOT / folder).rglob("*.py"):
+            assert f"wordkin/{src.relative_to(ROOT).as_posix()}" in names, src
     assert "wordkin/__init__.py" not in names  # a namespace package: nothing but the three subpackages
     entry = zipfile.ZipFile(wheel).read(next(n for n in names if n.endswith("entry_points.txt"))).decode()
     assert "wordkin = wordkin.console.cli:main" in entry

@@ -10,7 +10,7 @@ from gensim.models import KeyedVectors
 
 from wordkin.index.errors import UnknownWordError, UsageError
 from wordkin.index.scoring import score_analogies, score_pairs
-from wordkin.index.store import from_arrays, open_vectors
+from wordkin.index.vectors import from_arrays, open_vectors
 
 from .conftest import calc, cli_json, gensim_data, run_cli, similarity
 

@@ -14,16 +14,16 @@ import json
 
 import pytest
 
-from wordkin.console.app import create_app
 from wordkin.console.cli import main as cli_main
-from wordkin.console.cli_queries import argv_for, missing_kinds
-from wordkin.console.notebook import Entry, Notebook
-from wordkin.console.notebook_diff import rerun
-from wordkin.console.pane_base import QueryPane
-from wordkin.console.panes import PANES
+from wordkin.console.cli.query_commands import argv_for, missing_kinds
+from wordkin.console.store.notebook import Entry, Notebook
+from wordkin.console.store.rerun_diff import rerun
+from wordkin.console.tui.app import create_app
+from wordkin.console.tui.panes import PANES
+from wordkin.console.tui.panes.base import QueryPane
 from wordkin.demo_vectors import demo_path
-from wordkin.index.queries import KINDS, Query, query_from_json, result_from_json
-from wordkin.index.store import open_vectors
+from wordkin.index.kinds import KINDS, Query, query_from_json, result_from_json
+from wordkin.index.vectors import open_vectors
 
 from .conftest import session_of
 from .test_console import SIZE, wait_for

@@ -12,12 +12,12 @@ from scipy.linalg import orthogonal_procrustes
 from scipy.stats import ortho_group, skew, spearmanr
 
 from wordkin.index.errors import DimensionMismatchError, UsageError
-from wordkin.index.kind_checkup import PAIR_SAMPLE, SEED
-from wordkin.index.kind_compare import procrustes
-from wordkin.index.queries import Checkup, Compare
-from wordkin.index.release_stats import sample_pairs, spearman
+from wordkin.index.kinds import Checkup, Compare
+from wordkin.index.kinds.checkup import PAIR_SAMPLE, SEED
+from wordkin.index.kinds.compare import procrustes
 from wordkin.index.session import Session
-from wordkin.index.store import from_arrays, open_vectors
+from wordkin.index.statistics import sample_pairs, spearman
+from wordkin.index.vectors import from_arrays, open_vectors
 
 from .conftest import gensim_data, run_cli, structured_set, write_w2v_text
 
@@ -189,7 +189,7 @@ def _pair_files(tmp_path):
 def test_status_line_shortens_counts_and_names_before_the_mode():
     from rich.cells import cell_len
 
-    from wordkin.console.status_line import SEP, status_parts
+    from wordkin.console.tui.status_line import SEP, status_parts
 
     mode = "exact search: small set"
     full = status_parts("brackwater.vec", (12_000, 48), "", mode, 80)
@@ -207,9 +207,9 @@ def test_console_against_columns_and_comparison_pane(tmp_path):
 
     from textual.widgets import DataTable, Static
 
-    from wordkin.console.app import create_app
-    from wordkin.console.pane_neighbours import NeighboursPane
-    from wordkin.console.pane_release import ComparePane
+    from wordkin.console.tui.app import create_app
+    from wordkin.console.tui.panes.neighbours import NeighboursPane
+    from wordkin.console.tui.panes.release import ComparePane
 
     from .test_console import SIZE, wait_for
 

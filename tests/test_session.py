@@ -17,11 +17,11 @@ import sys
 import time
 from pathlib import Path
 
-from wordkin.console.app import create_app
-from wordkin.console.notebook import Notebook
-from wordkin.console.pane_notebook import NotebookPane
-from wordkin.index import ann
-from wordkin.index.store import open_vectors
+from wordkin.console.store.notebook import Notebook
+from wordkin.console.tui.app import create_app
+from wordkin.console.tui.panes.notebook import NotebookPane
+from wordkin.index.ann import annoy_file as ann
+from wordkin.index.vectors import open_vectors
 
 from .conftest import run_cli, structured_set, write_w2v_text
 from .test_console import SIZE, wait_for

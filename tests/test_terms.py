@@ -16,14 +16,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from wordkin.console.app import create_app
-from wordkin.console.notebook import Notebook
-from wordkin.console.pane_terms import TermsPane
-from wordkin.console.terms import create_list, decide, get_list, undo
-from wordkin.console.terms_export import render, synonym_term
+from wordkin.console.formats.term_list_export import render, synonym_term
+from wordkin.console.store.notebook import Notebook
+from wordkin.console.store.term_lists import create_list, decide, get_list, undo
+from wordkin.console.tui.app import create_app
+from wordkin.console.tui.panes.terms import TermsPane
 from wordkin.demo_vectors import demo_path
-from wordkin.index.queries import TermSuggest
-from wordkin.index.store import from_arrays, open_vectors
+from wordkin.index.kinds import TermSuggest
+from wordkin.index.vectors import from_arrays, open_vectors
 
 from .conftest import ROOT, run_cli, session_of
 from .test_console import SIZE, wait_for
@@ -165,8 +165,8 @@ def test_json_export_import_export_is_identical(tmp_path):
 
 WRITER = """
 import sys
-from wordkin.console.notebook import Notebook
-from wordkin.console.terms import decide
+from wordkin.console.store.notebook import Notebook
+from wordkin.console.store.term_lists import decide
 nb = Notebook.open(sys.argv[1])
 tag = sys.argv[2]
 for i in range(int(sys.argv[3])):

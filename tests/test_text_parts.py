@@ -11,10 +11,10 @@ import numpy as np
 import pytest
 from gensim.models import KeyedVectors
 
-from wordkin.index import text_parts
 from wordkin.index.errors import UnreadableFileError
-from wordkin.index.formats import detect, read_batches
-from wordkin.index.store import open_vectors
+from wordkin.index.readers import text_parts
+from wordkin.index.readers.detect import detect, read_batches
+from wordkin.index.vectors import open_vectors
 
 from .conftest import gensim_data
 

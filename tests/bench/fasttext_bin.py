@@ -34,7 +34,7 @@ print(json.dumps({{"seconds": took, "peak_mib": int(hwm) / 1024}}))
 """
 
 OURS = """
-from wordkin.index.store import open_vectors
+from wordkin.index.vectors import open_vectors
 vs = open_vectors(sys.argv[1], cache_root=sys.argv[2])
 wv = vs.word_vector("harbourfrontage")
 """

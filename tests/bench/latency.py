@@ -18,11 +18,11 @@ import numpy as np
 def main() -> None:
     from gensim.models import KeyedVectors
 
-    from wordkin.index import ann
-    from wordkin.index.queries import Arithmetic, Neighbours
+    from wordkin.index.ann import annoy_file as ann
+    from wordkin.index.kinds import Arithmetic, Neighbours
     from wordkin.index.search import exact_top, top_for_vector
     from wordkin.index.session import Session
-    from wordkin.index.store import open_vectors
+    from wordkin.index.vectors import open_vectors
 
     vs = open_vectors(sys.argv[1])
     loaded = ann.load(vs)
@@ -37,7 +37,7 @@ def main() -> None:
     frequent = np.arange(1000, 1400)
     qs = np.concatenate([frequent, rng.choice(np.arange(2000, vs.n), 400, replace=False)])
     np.asarray(vs.unit).sum()  # warm the page cache for both sides alike (the cold case is measured apart)
-    from wordkin.index.residency import read_in
+    from wordkin.index.ann.residency import read_in
 
     assert loaded.index.path is not None
     read_in(loaded.index.path, lambda d, t: None, lambda: False)

@@ -14,7 +14,7 @@ def main() -> None:
     from gensim.models import KeyedVectors
 
     from wordkin.index.scoring import score_analogies
-    from wordkin.index.store import open_vectors
+    from wordkin.index.vectors import open_vectors
 
     vs = open_vectors(sys.argv[1])
     kv = KeyedVectors.load(sys.argv[2], mmap="r")

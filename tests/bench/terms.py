@@ -26,7 +26,7 @@ from . import synth
 
 
 def engine_times(vs, session, seeds: list[str], rounds: int) -> tuple[list[float], str]:
-    from wordkin.index.queries import TermSuggest
+    from wordkin.index.kinds import TermSuggest
 
     kept: list[str] = []
     dropped: list[str] = []
@@ -45,8 +45,8 @@ def engine_times(vs, session, seeds: list[str], rounds: int) -> tuple[list[float
 async def console_times(path: Path, cache: Path, seeds: list[str], rounds: int) -> list[float]:
     import os
 
-    from wordkin.console.app import create_app
-    from wordkin.console.pane_terms import TermsPane
+    from wordkin.console.tui.app import create_app
+    from wordkin.console.tui.panes.terms import TermsPane
 
     os.environ["WORDKIN_CACHE"] = str(cache)
     app = create_app(str(path), notebook=str(cache / "bench.wkn"))
@@ -76,10 +76,10 @@ def main() -> None:
     ap.add_argument("--words", type=int, default=400_000)
     ap.add_argument("--rounds", type=int, default=30)
     args = ap.parse_args()
-    from wordkin.index.ann import load
-    from wordkin.index.index_build import build
+    from wordkin.index.ann.annoy_file import load
+    from wordkin.index.ann.build import build
     from wordkin.index.session import Session
-    from wordkin.index.store import open_vectors
+    from wordkin.index.vectors import open_vectors
 
     work = Path(tempfile.mkdtemp(prefix="wordkin-bench-terms-"))
     try:

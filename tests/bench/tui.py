@@ -37,8 +37,8 @@ async def _answer(pilot: Any, pane: Any, box: Any) -> float:
 async def latency(path: str, work: Path) -> dict[str, Any]:
     from textual.widgets import Input, Static
 
-    from wordkin.console.app import create_app
-    from wordkin.console.pane_neighbours import NeighboursPane
+    from wordkin.console.tui.app import create_app
+    from wordkin.console.tui.panes.neighbours import NeighboursPane
 
     t_start = time.perf_counter()
     app = create_app(path, notebook=str(work / "latency.wkn"))
@@ -89,7 +89,7 @@ async def latency(path: str, work: Path) -> dict[str, Any]:
 async def stall(path: str, work: Path) -> float:
     from textual.widgets import Input
 
-    from wordkin.console.app import create_app
+    from wordkin.console.tui.app import create_app
 
     # A cold open: parse and build the index from scratch, in a cache of its own.
     app = create_app(path, notebook=str(work / "stall.wkn"), cache=str(work / "cache-stall"))
