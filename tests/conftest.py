@@ -112,14 +112,14 @@ def session_of(vs, ann=None):
 def neighbours(vs, word, k=10, *, ann=None, mode="auto", top=None, **opts):
     from wordkin.index.kinds import Neighbours
 
-    return Neighbours(word, k, top, exact=mode == "exact", **opts).run(session_of(vs, ann))
+    return Neighbours(word, k=k, top=top, exact=mode == "exact", **opts).run(session_of(vs, ann))
 
 
 def calc(vs, expression, k=10, *, method="add", top=None, keep_inputs=False, ann=None, epsilon=None):
     from wordkin.index.analogy import EPSILON
     from wordkin.index.kinds import Arithmetic
 
-    q = Arithmetic(expression, k, method, top, keep_inputs)
+    q = Arithmetic(expression, k=k, method=method, top=top, keep_inputs=keep_inputs)
     return q.run(session_of(vs, ann), epsilon=EPSILON if epsilon is None else epsilon)
 
 
@@ -134,5 +134,5 @@ def stub_entry(word: str, note: str = ""):
     from wordkin.console.store.notebook import Entry
     from wordkin.index.kinds import NeighbourResult, Neighbours
 
-    q = Neighbours(word, 1)
+    q = Neighbours(word, k=1)
     return Entry(q, NeighbourResult(q, word, "exact", (), 1), {"path": "x"}, note)

@@ -218,10 +218,10 @@ def test_variant_lookup_and_exact_word(tmp_path):
     from wordkin.index.kinds import Neighbours
 
     s = session_of(vs)
-    assert Neighbours("new york", 2).run(s).word == "new_york"
-    assert Neighbours("café", 2).run(s).word == "Café"
-    assert Neighbours("Cafe\u0301", 2).run(s).word == "Café"  # decomposed é: NFC
-    res = Neighbours("HARBOUR", 2).run(s)
+    assert Neighbours("new york", k=2).run(s).word == "new_york"
+    assert Neighbours("café", k=2).run(s).word == "Café"
+    assert Neighbours("Cafe\u0301", k=2).run(s).word == "Café"  # decomposed é: NFC
+    res = Neighbours("HARBOUR", k=2).run(s)
     assert res.word == "harbour" and any("answered as harbour" in n for n in res.notes())
     out = json.loads(run_cli("near", DEMO, "Hotel", "--json").stdout)
     assert out["word"] == "hotel"

@@ -112,7 +112,7 @@ def test_vectors_and_neighbours_equal_gensim(name, tmp_path):
     if name == "cp852_fasttext.bin":
         return  # its non-UTF-8 words have other vectors in gensim (re-encoded), so neighbour lists differ there
     for w in vocab[:10] + unknown[:10]:
-        res = Neighbours(w, k, exact=True).run(session)
+        res = Neighbours(w, k=k, exact=True).run(session)
         ref = kv.most_similar(w, topn=k)
         np.testing.assert_allclose([n.similarity for n in res.rows], [s for _, s in ref], atol=1e-5)
         # Same words wherever the cosines are not tied within float error.
@@ -125,23 +125,23 @@ def test_vectors_and_neighbours_equal_gensim(name, tmp_path):
 def test_unknown_words_in_every_query_kind(tmp_path):
     vs = open_vectors(gensim_data("lee_fasttext.bin"), cache_root=tmp_path / "c")
     s = session_of(vs)
-    res = Neighbours("harbourfront", 5).run(s)
+    res = Neighbours("harbourfront", k=5).run(s)
     assert res.subword is not None and res.subword.ngrams > 0 and res.to_json()["query_vector"] == "subwords"
-    assert Neighbours("governmentt", 5).run(s).subword.close[0] == "government"  # close matches, beside the answer
+    assert Neighbours("governmentt", k=5).run(s).subword.close[0] == "government"  # close matches, beside the answer
     from wordkin.index.kinds import Arithmetic
 
-    calc = Arithmetic("governmentt - government + police", 5).run(s)
+    calc = Arithmetic("governmentt - government + police", k=5).run(s)
     assert [x.word for x in calc.subwords] == ["governmentt"] and calc.to_json()["query_vector"] == "subwords"
     sim = Similarity(("police", "officers", "polisemen")).run(s)
     assert [x.word for x in sim.subwords] == ["polisemen"] and sim.pair_ranks[0][2] is None
     terms = TermSuggest("t", ("police", "polisemen"), k=5).run(s)
     assert [x.word for x in terms.subwords] == ["polisemen"] and len(terms.rows) == 5
     with pytest.raises(UnknownWordError):
-        Neighbours("harbourfront", 5, subwords=False).run(s)
+        Neighbours("harbourfront", k=5, subwords=False).run(s)
     # A .vec file of the same model: nothing changes, unknown words are unknown.
     vec = open_vectors(gensim_data("lee_fasttext.vec"), cache_root=tmp_path / "c")
     with pytest.raises(UnknownWordError):
-        Neighbours("harbourfront", 5).run(session_of(vec))
+        Neighbours("harbourfront", k=5).run(session_of(vec))
 
 
 def test_command_line_marks_subword_answers(tmp_path):

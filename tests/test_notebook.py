@@ -18,8 +18,9 @@ import numpy as np
 import pytest
 
 from wordkin.console.formats.notebook_export import csv_cell, md_cell, render, to_csv, to_markdown, write_file
+from wordkin.console.formats.rerun_report import diff_text
 from wordkin.console.store.notebook import Entry, Notebook
-from wordkin.console.store.rerun_diff import diff_text, rerun
+from wordkin.console.store.rerun import rerun
 from wordkin.index.vectors import from_arrays
 
 from .conftest import ROOT, calc, neighbours, run_cli, session_of, similarity, stub_entry

@@ -15,9 +15,9 @@ import json
 import pytest
 
 from wordkin.console.cli import main as cli_main
-from wordkin.console.cli.query_commands import argv_for, missing_kinds
+from wordkin.console.cli.registry import argv_for, missing_kinds
 from wordkin.console.store.notebook import Entry, Notebook
-from wordkin.console.store.rerun_diff import rerun
+from wordkin.console.store.rerun import rerun
 from wordkin.console.tui.app import create_app
 from wordkin.console.tui.panes import PANES
 from wordkin.console.tui.panes.base import QueryPane

@@ -7,38 +7,38 @@ from __future__ import annotations
 import argparse
 import sys
 from pathlib import Path
-from typing import Any
 
+from wordkin.console.cli.options import add_options, option_argv, option_values
+from wordkin.console.cli.query_commands import maybe_save
+from wordkin.console.cli.registry import Command, register, save_arguments
 from wordkin.index.errors import UsageError
-from wordkin.index.kinds.base import Query, Result
+from wordkin.index.kinds import Checkup, Compare
+from wordkin.index.kinds.base import Query, Result, option_fields
 from wordkin.index.session import Session
 
 
-def add_parsers(sub: Any, shared: Any, save_opts: Any) -> None:
-    p = sub.add_parser("checkup", help="a check-up of one vector set: vocabulary, norms, anisotropy, hubness")
+def _checkup_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("file")
     p.add_argument("--pairs", action="append", default=[], metavar="PATH", help="a word-pair file to score")
     p.add_argument("--analogies", action="append", default=[], metavar="PATH", help="an analogy file to score")
-    p.add_argument("-k", type=int, default=10, help="neighbours counted for hubness (default 10)")
+    add_options(p, Checkup)
     p.add_argument("--plot", metavar="DIR", help="also write the histograms as SVG files into DIR")
     p.add_argument("--json", action="store_true")
-    save_opts(p)
-    shared(p)
+    save_arguments(p)
 
-    p = sub.add_parser("compare", help="compare a vector set (NEW) with the one it replaces (OLD)")
+
+def _compare_arguments(p: argparse.ArgumentParser) -> None:
     p.add_argument("old", metavar="OLD")
     p.add_argument("new", metavar="NEW")
-    p.add_argument("-k", type=int, default=10, help="neighbours compared per word (default 10)")
+    add_options(p, Compare, skip=("top",))
     g = p.add_mutually_exclusive_group()
-    g.add_argument("--top", type=int, default=10_000, metavar="N", help="compare the N most frequent shared words")
+    add_options(g, Compare, skip=tuple(f.name for f in option_fields(Compare) if f.name != "top"))
     g.add_argument("--words", metavar="PATH", help="compare the words listed in PATH (one a line)")
-    p.add_argument("--most", type=int, default=20, metavar="N", help="how many most-changed words to show")
     p.add_argument("--pairs", action="append", default=[], metavar="PATH", help="a word-pair file to score on both")
     p.add_argument("--analogies", action="append", default=[], metavar="PATH", help="an analogy file, on both")
     p.add_argument("--plot", metavar="DIR", help="also write the histograms as SVG files into DIR")
     p.add_argument("--json", action="store_true")
-    save_opts(p)
-    shared(p)
+    save_arguments(p)
 
 
 def _words_file(path: str) -> tuple[str, ...]:
@@ -63,12 +63,7 @@ def _finish(args: argparse.Namespace, res: Result, session: Session) -> int:
         for p in write_svgs(res, args.plot):
             note(f"wrote {p}")
     emit_json(res.to_json()) if args.json else sys.stdout.write(result_text(res))
-    if args.save:
-        from wordkin.console.store.notebook import Entry, Notebook
-
-        with Notebook.open(args.save) as nb:
-            entry_id = nb.add(Entry.of(res, session.vectors, note=args.note))
-        note(f"saved as entry {entry_id} in {args.save}")
+    maybe_save(args, session, res)
     return 0
 
 
@@ -81,24 +76,73 @@ def _run(q: Query, session: Session) -> Result:
 
 def cmd_checkup(args: argparse.Namespace) -> int:
     from wordkin.console.cli.io import open_set
-    from wordkin.index.kinds import Checkup
 
-    q = Checkup(tuple(args.pairs), tuple(args.analogies), args.k)
+    q = Checkup(pairs=tuple(args.pairs), analogies=tuple(args.analogies), **option_values(args, Checkup))
     session = Session(open_set(args))
     return _finish(args, _run(q, session), session)
 
 
 def cmd_compare(args: argparse.Namespace) -> int:
     from wordkin.console.cli.io import open_set
-    from wordkin.index.kinds import Compare
     from wordkin.index.kinds.compare import check_dims
 
     if args.k < 1 or args.top < 1 or args.most < 1:
         raise UsageError("-k, --top and --most are positive whole numbers")
     words = _words_file(args.words) if args.words else ()
-    q = Compare(args.k, args.top, words, args.most, tuple(args.pairs), tuple(args.analogies))
+    q = Compare(words=words, pairs=tuple(args.pairs), analogies=tuple(args.analogies), **option_values(args, Compare))
     old = open_set(args, args.old)
     new = open_set(args, args.new)
     check_dims(old, new)
     session = Session(new, against=old)
     return _finish(args, _run(q, session), session)
+
+
+def _benchmarks_argv(q: Checkup | Compare) -> list[str]:
+    return [*[x for p in q.pairs for x in ("--pairs", p)], *[x for a in q.analogies for x in ("--analogies", a)]]
+
+
+def _checkup_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    assert isinstance(q, Checkup)
+    return ["checkup", file, *option_argv(q), *_benchmarks_argv(q)]
+
+
+def _compare_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    """The same file as OLD and NEW (a test walks every kind on one vector file)."""
+    assert isinstance(q, Compare)
+    words: list[str] = []
+    if q.words:
+        f = scratch / "compare-words.txt"
+        f.write_text("\n".join(q.words) + "\n", encoding="utf-8")
+        words = ["--words", str(f)]
+    return [
+        "compare",
+        file,
+        file,
+        *option_argv(q, skip=("top",)),
+        *(words or ["--top", str(q.top)]),
+        *_benchmarks_argv(q),
+    ]
+
+
+register(
+    Command(
+        "checkup",
+        "a check-up of one vector set: vocabulary, norms, anisotropy, hubness",
+        cmd_checkup,
+        _checkup_arguments,
+        80,
+        kind=Checkup.kind,
+        to_argv=_checkup_argv,
+    )
+)
+register(
+    Command(
+        "compare",
+        "compare a vector set (NEW) with the one it replaces (OLD)",
+        cmd_compare,
+        _compare_arguments,
+        81,
+        kind=Compare.kind,
+        to_argv=_compare_argv,
+    )
+)

@@ -15,18 +15,20 @@ from __future__ import annotations
 
 import argparse
 import sys
+import uuid
+from pathlib import Path
 from typing import Any
 
+from wordkin.console.cli.options import add_options, option_argv, option_values
+from wordkin.console.cli.registry import Command, register, shared_arguments
 from wordkin.console.formats.safe_text import visible
 from wordkin.index.errors import UnknownWordError, UsageError
-from wordkin.index.kinds import TermsResult
-from wordkin.index.kinds.terms import DEFAULT_GAMMA, DEFAULT_SUPPORT_K
+from wordkin.index.kinds import Query, TermsResult, TermSuggest
 
 VERBS = ("new", "suggest", "keep", "drop", "aside", "undo", "show", "export")
 
 
-def add_parser(sub: Any, shared: Any) -> None:
-    p = sub.add_parser("terms", help="term lists: seed, suggest, keep or drop, export")
+def _arguments(p: argparse.ArgumentParser) -> None:
     verbs = p.add_subparsers(dest="verb", required=True, metavar="VERB")
 
     v = verbs.add_parser("new", help="a new list seeded with WORDs (exit 2 if NAME exists)")
@@ -39,24 +41,10 @@ def add_parser(sub: Any, shared: Any) -> None:
     v.add_argument("file")
     v.add_argument("notebook", metavar="NB")
     v.add_argument("name", metavar="NAME")
-    v.add_argument("-k", type=int, default=20, help="how many candidates (default 20)")
-    v.add_argument("--gamma", type=float, default=DEFAULT_GAMMA, help="weight of the dropped words (default 0.15)")
-    v.add_argument("--top", type=int, metavar="N", help="only the N most frequent words may be candidates")
-    v.add_argument("--support-k", type=int, default=DEFAULT_SUPPORT_K, help="neighbours counted for support")
-    v.add_argument("--hide-forms", action="store_true", help="leave out forms of the list's words")
-    v.add_argument("--include", default="", metavar="RE", help="only candidates matching this regular expression")
-    v.add_argument("--exclude", default="", metavar="RE", help="no candidates matching this regular expression")
-    v.add_argument("--exact", action="store_true", help="scan every word instead of using the index")
-    v.add_argument(
-        "--no-subwords",
-        dest="subwords",
-        action="store_false",
-        help="fastText .bin: list words not in the vocabulary are errors, not built from their n-grams",
-    )
-    v.add_argument("--exact-word", action="store_true", help="look list words up only as typed")
+    add_options(v, TermSuggest)
     v.add_argument("--json", action="store_true")
     v.add_argument("--save", action="store_true", help="also save the candidate table as a notebook entry")
-    shared(v)
+    shared_arguments(v)
 
     for verb, what in (("keep", "kept"), ("drop", "dropped"), ("aside", "set aside for later")):
         v = verbs.add_parser(verb, help=f"record WORDs as {what}")
@@ -129,27 +117,13 @@ def t_suggest(args: argparse.Namespace) -> int:
     from wordkin.console.store.notebook import Entry, vector_set_info
     from wordkin.console.store.term_lists import get_list, record_shown
 
-    if args.k < 1:
-        raise UsageError(f"-k must be a positive whole number, not {args.k}")
-    if args.top is not None and args.top < 1:
-        raise UsageError(f"--top must be a positive whole number, not {args.top}")
+    options = option_values(args, TermSuggest)
     if not 0 <= args.gamma <= 1:
         raise UsageError(f"--gamma must be between 0 and 1, not {args.gamma:g}")
     with _notebook(args) as nb:
         tl = get_list(nb, args.name)
     session = open_session(args, want_index=not args.exact)
-    q = tl.query(
-        k=args.k,
-        gamma=args.gamma,
-        support_k=args.support_k,
-        top=args.top,
-        hide_forms=args.hide_forms,
-        include=args.include,
-        exclude=args.exclude,
-        exact=args.exact,
-        subwords=args.subwords,
-        exact_word=args.exact_word,
-    )
+    q = tl.query(**options)
     res = q.run(session)
     assert isinstance(res, TermsResult)
     with _notebook(args) as nb:
@@ -244,4 +218,33 @@ HANDLERS = {
     "export": t_export,
 }
 
-__all__ = ["add_parser", "cmd_terms", "UnknownWordError"]
+
+def _to_argv(q: Query, file: str, scratch: Path) -> list[str]:
+    """``terms suggest`` reads the list's state from a notebook: a new one is written in ``scratch`` with it."""
+    assert isinstance(q, TermSuggest)
+    from wordkin.console.store.notebook import Notebook
+    from wordkin.console.store.term_lists import create_list, decide
+
+    nb = scratch / f"terms-{uuid.uuid4().hex}.wkn"
+    with Notebook.open(nb) as book:
+        create_list(book, q.name, list(q.seeds))
+        for state, words in (("kept", q.kept), ("dropped", q.dropped), ("aside", q.aside)):
+            if words:
+                decide(book, q.name, list(words), state)
+    return ["terms", "suggest", file, str(nb), q.name, *option_argv(q)]
+
+
+register(
+    Command(
+        "terms",
+        "term lists: seed, suggest, keep or drop, export",
+        cmd_terms,
+        _arguments,
+        70,
+        shared="none",
+        kind=TermSuggest.kind,
+        to_argv=_to_argv,
+    )
+)
+
+__all__ = ["cmd_terms", "UnknownWordError"]

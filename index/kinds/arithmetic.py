@@ -14,7 +14,20 @@ from typing import Any, ClassVar
 from wordkin.index.analogy import EPSILON, as_expression, mul_scores, mul_top, vector_of
 from wordkin.index.errors import UsageError
 from wordkin.index.expressions import Analogy, parse, quote_word, signed_words, to_text, words_of
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, rank_diff, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    exact_search_option,
+    exact_word_option,
+    input_field,
+    option_field,
+    rank_diff,
+    register,
+    subwords_option,
+    top_option,
+)
 from wordkin.index.kinds.rows import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json, variant_note
 from wordkin.index.search import check_k, check_top, rank_in, rank_of, top_for_vector, unit_query
 from wordkin.index.session import Session
@@ -114,14 +127,28 @@ class Arithmetic(Query):
     kind: ClassVar[str] = "arithmetic"
     result_class: ClassVar[type[Any]] = CalcResult
 
-    expression: str
-    k: int = option_field((3, 10), default=10)
-    method: str = option_field(METHODS, default="add")
-    top: int | None = option_field((None, 60), default=None)
-    keep_inputs: bool = option_field((False, True), default=False)
-    exact: bool = option_field((False, True), default=False)
-    subwords: bool = option_field((True, False), default=True)
-    exact_word: bool = option_field((False, True), default=False)
+    expression: str = input_field(metavar="EXPR")
+    k: int = option_field((3, 10), default=10, flag="-k", label="k", positive=True, help="how many answers")
+    method: str = option_field(
+        METHODS,
+        default="add",
+        flag="--method",
+        label="method",
+        allowed=METHODS,
+        names={"add": "3CosAdd", "mul": "3CosMul"},
+        help="3CosAdd (add) or 3CosMul (mul)",
+    )
+    top: int | None = top_option((None, 60), "answers")
+    keep_inputs: bool = option_field(
+        (False, True),
+        default=False,
+        flag="--keep-inputs",
+        label="keep inputs",
+        help="do not exclude the expression's words",
+    )
+    exact: bool = exact_search_option()
+    subwords: bool = subwords_option()
+    exact_word: bool = exact_word_option()
 
     def title(self) -> str:
         return self.expression
@@ -130,22 +157,6 @@ class Arithmetic(Query):
     def example(cls, words: list[str]) -> Arithmetic:
         a, b, c = (quote_word(w) for w in words[3:6])
         return cls(f"{a} : {b} :: {c} : ?")
-
-    def options(self) -> list[str]:
-        out = [
-            f"k {self.k}",
-            "method " + ("3CosAdd" if self.method == "add" else "3CosMul"),
-            f"top {self.top or 'all'}",
-        ]
-        if self.keep_inputs:
-            out.append("keep inputs")
-        if self.exact:
-            out.append("exact search")
-        if not self.subwords:
-            out.append("no subwords")
-        if self.exact_word:
-            out.append("exact words")
-        return out
 
     def run(self, session: Session, *, epsilon: float = EPSILON) -> CalcResult:
         """``epsilon`` is 3CosMul's (the paper's 0.001; gensim's ``most_similar_cosmul`` uses 1e-6)."""

@@ -113,7 +113,7 @@ class Query:
 
     def options(self) -> list[str]:
         """Every option that shapes the answer, in words (``k 10``, ``top all``, ``hide forms``...)."""
-        return []
+        return option_labels(self)
 
     def with_mode(self, mode: str) -> Query:
         """The same query pinned to how a saved answer was found (``exact`` stays exact on a re-run)."""
@@ -201,6 +201,126 @@ def result_from_json(query: Query, d: dict[str, Any]) -> Result:
     return reader(d, query)
 
 
-def option_field(choices: tuple[Any, ...], **kw: Any) -> Any:
-    """A dataclass field of an option, with the values a test walks through (``choices``)."""
-    return field(metadata={"choices": choices}, **kw)
+def option_field(
+    choices: tuple[Any, ...],
+    *,
+    default: Any,
+    flag: str,
+    label: str,
+    help: str,
+    short: str = "",
+    metavar: str | None = None,
+    allowed: tuple[Any, ...] | None = None,
+    show: str = "{}",
+    names: dict[Any, str] | None = None,
+    none: str | None = None,
+    positive: bool = False,
+) -> Any:
+    """A dataclass field of an option, declared once: every front end is derived from this.
+
+    ``choices``: the values a test walks through. ``flag``: the command-line flag (a bool option whose default is
+    True is switched off by its flag, ``--no-subwords``). ``label``: the option in words, as ``options()`` lists it
+    (``k 10``, ``hide forms``; a bool is listed when it differs from its default); ``short``: the label on the
+    console's widget where it differs. ``help``: the flag's help. ``metavar``, ``allowed`` (argparse choices),
+    ``show`` (how the value is written, a format string), ``names`` (words for values: ``add`` -> ``3CosAdd``),
+    ``none`` (the word for None: ``all``), ``positive`` (a whole number of at least 1, checked by the front ends
+    in the flag's name).
+    """
+    meta = {
+        "choices": choices,
+        "flag": flag,
+        "label": label,
+        "short": short or label,
+        "help": help,
+        "metavar": metavar,
+        "allowed": allowed,
+        "show": show,
+        "names": names or {},
+        "none": none,
+        "positive": positive,
+    }
+    return field(default=default, metadata=meta, kw_only=True)
+
+
+def input_field(*, metavar: str, help: str = "") -> Any:
+    """A dataclass field of the question itself (the word, the expression): a positional argument of its command."""
+    return field(metadata={"input": True, "metavar": metavar, "help": help})
+
+
+def option_fields(cls: type[Query]) -> list[dataclasses.Field[Any]]:
+    """The option fields of a kind, in declaration order."""
+    return [f for f in dataclasses.fields(cls) if "flag" in f.metadata]  # type: ignore[arg-type]
+
+
+def input_fields(cls: type[Query]) -> list[dataclasses.Field[Any]]:
+    """The fields a command takes as positional arguments, in declaration order."""
+    return [f for f in dataclasses.fields(cls) if f.metadata.get("input")]  # type: ignore[arg-type]
+
+
+def option_text(f: dataclasses.Field[Any], value: Any) -> str | None:
+    """One option in words (``k 10``, ``top all``, ``hide forms``), or None where it is not worth saying."""
+    md = f.metadata
+    if isinstance(value, bool):
+        return str(md["label"]) if value != f.default else None
+    if value is None:
+        return f"{md['label']} {md['none']}" if md["none"] is not None else None
+    if value == "" and f.default == "":
+        return None
+    shown = md["names"].get(value, md["show"].format(value))
+    return f"{md['label']} {shown}"
+
+
+def option_labels(query: Query, skip: tuple[str, ...] = ()) -> list[str]:
+    """Every option of ``query`` in words, in declaration order (``skip`` names options a kind says itself)."""
+    out = []
+    for f in option_fields(type(query)):
+        if f.name not in skip and (text := option_text(f, getattr(query, f.name))) is not None:
+            out.append(text)
+    return out
+
+
+# The options several kinds share, declared once.
+
+
+def exact_search_option() -> Any:
+    return option_field(
+        (False, True),
+        default=False,
+        flag="--exact",
+        label="exact search",
+        short="exact",
+        help="scan every word instead of using the index",
+    )
+
+
+def subwords_option() -> Any:
+    return option_field(
+        (True, False),
+        default=True,
+        flag="--no-subwords",
+        label="no subwords",
+        help="fastText .bin: a word not in the vocabulary is an error, not built from its character n-grams",
+    )
+
+
+def exact_word_option() -> Any:
+    return option_field(
+        (False, True),
+        default=False,
+        flag="--exact-word",
+        label="exact words",
+        help="look words up only as typed (not as NFC, case-folded or with spaces as _)",
+    )
+
+
+def top_option(choices: tuple[Any, ...], what: str) -> Any:
+    return option_field(
+        choices,
+        default=None,
+        flag="--top",
+        label="top",
+        none="all",
+        metavar="N",
+        positive=True,
+        help=f"only the N most frequent words may be {what}",
+    )

@@ -20,7 +20,14 @@ from typing import Any, ClassVar
 
 import numpy as np
 
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    option_field,
+    register,
+)
 from wordkin.index.progress import CancelFn, ProgressFn
 from wordkin.index.session import Session
 from wordkin.index.statistics import Histogram, histogram, knn_blocks, quartiles, sample_pairs, skewness, spearman
@@ -167,7 +174,7 @@ class Checkup(Query):
 
     pairs: tuple[str, ...] = ()
     analogies: tuple[str, ...] = ()
-    k: int = option_field((10, 5), default=10)
+    k: int = option_field((10, 5), default=10, flag="-k", label="k", help="neighbours counted for hubness")
 
     def title(self) -> str:
         return "check-up"
@@ -177,9 +184,7 @@ class Checkup(Query):
         return cls()
 
     def options(self) -> list[str]:
-        out = [f"k {self.k}"]
-        out += [f"pairs {p}" for p in self.pairs] + [f"analogies {a}" for a in self.analogies]
-        return out
+        return super().options() + [f"pairs {p}" for p in self.pairs] + [f"analogies {a}" for a in self.analogies]
 
     def run(
         self, session: Session, *, progress: ProgressFn | None = None, cancel: CancelFn | None = None

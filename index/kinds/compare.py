@@ -24,7 +24,15 @@ import numpy as np
 from numpy.typing import NDArray
 
 from wordkin.index.errors import DimensionMismatchError, UsageError
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    option_field,
+    option_labels,
+    register,
+)
 from wordkin.index.progress import CancelFn, ProgressFn
 from wordkin.index.session import Session
 from wordkin.index.statistics import Histogram, histogram, knn_blocks, quartiles
@@ -216,10 +224,20 @@ class Compare(Query):
     result_class: ClassVar[type[Any]] = CompareResult
     needs_against: ClassVar[bool] = True
 
-    k: int = option_field((10, 5), default=10)
-    top: int = option_field((10_000, 500), default=10_000)
+    k: int = option_field((10, 5), default=10, flag="-k", label="k", help="neighbours compared per word")
+    top: int = option_field(
+        (10_000, 500),
+        default=10_000,
+        flag="--top",
+        label="top",
+        show="{:,}",
+        metavar="N",
+        help="compare the N most frequent shared words",
+    )
     words: tuple[str, ...] = ()
-    most: int = option_field((20,), default=20)
+    most: int = option_field(
+        (20,), default=20, flag="--most", label="most", metavar="N", help="how many most-changed words to show"
+    )
     pairs: tuple[str, ...] = ()
     analogies: tuple[str, ...] = ()
 
@@ -231,7 +249,9 @@ class Compare(Query):
         return cls()
 
     def options(self) -> list[str]:
-        out = [f"k {self.k}", f"{len(self.words)} listed words" if self.words else f"top {self.top:,}"]
+        # ``most`` only shortens the list shown; ``top`` gives way to the listed words when there are some.
+        out = option_labels(self, skip=("top", "most"))
+        out.append(f"{len(self.words)} listed words" if self.words else f"top {self.top:,}")
         return out + [f"pairs {p}" for p in self.pairs] + [f"analogies {a}" for a in self.analogies]
 
     def run(

@@ -14,7 +14,20 @@ from typing import Any, ClassVar
 import numpy as np
 
 from wordkin.index.forms import is_form_of
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, rank_diff, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    exact_search_option,
+    exact_word_option,
+    input_field,
+    option_field,
+    rank_diff,
+    register,
+    subwords_option,
+    top_option,
+)
 from wordkin.index.kinds.rows import Neighbour, SubwordWord, ranked, rows_from_json, rows_to_json
 from wordkin.index.search import check_k, check_top, top_for_vector
 from wordkin.index.session import Session
@@ -89,14 +102,22 @@ class Neighbours(Query):
     kind: ClassVar[str] = "neighbours"
     result_class: ClassVar[type[Any]] = NeighbourResult
 
-    word: str
-    k: int = option_field((3, 10), default=10)
-    top: int | None = option_field((None, 60), default=None)
-    hide_forms: bool = option_field((False, True), default=False)
-    fold_case: bool = option_field((False, True), default=False)
-    exact: bool = option_field((False, True), default=False)
-    subwords: bool = option_field((True, False), default=True)
-    exact_word: bool = option_field((False, True), default=False)
+    word: str = input_field(metavar="WORD")
+    k: int = option_field((3, 10), default=10, flag="-k", label="k", positive=True, help="how many neighbours")
+    top: int | None = top_option((None, 60), "answers")
+    hide_forms: bool = option_field(
+        (False, True),
+        default=False,
+        flag="--hide-forms",
+        label="hide forms",
+        help="drop answers that contain the word or are contained in it",
+    )
+    fold_case: bool = option_field(
+        (False, True), default=False, flag="--fold-case", label="fold case", help="look the word up case-insensitively"
+    )
+    exact: bool = exact_search_option()
+    subwords: bool = subwords_option()
+    exact_word: bool = exact_word_option()
 
     def title(self) -> str:
         return f"neighbours of {self.word}"
@@ -104,20 +125,6 @@ class Neighbours(Query):
     @classmethod
     def example(cls, words: list[str]) -> Neighbours:
         return cls(words[min(5, len(words) - 1)])
-
-    def options(self) -> list[str]:
-        out = [f"k {self.k}", f"top {self.top or 'all'}"]
-        if self.hide_forms:
-            out.append("hide forms")
-        if self.fold_case:
-            out.append("fold case")
-        if self.exact:
-            out.append("exact search")
-        if not self.subwords:
-            out.append("no subwords")
-        if self.exact_word:
-            out.append("exact word")
-        return out
 
     def run(self, session: Session) -> NeighbourResult:
         t0 = time.perf_counter()

@@ -10,7 +10,16 @@ from typing import Any, ClassVar
 import numpy as np
 
 from wordkin.index.errors import UsageError
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    exact_word_option,
+    input_field,
+    register,
+    subwords_option,
+)
 from wordkin.index.kinds.rows import SubwordWord, variant_note
 from wordkin.index.session import Session
 
@@ -117,15 +126,12 @@ class Similarity(Query):
     kind: ClassVar[str] = "similarity"
     result_class: ClassVar[type[Any]] = SimilarityResult
 
-    words: tuple[str, ...]
-    subwords: bool = option_field((True, False), default=True)
-    exact_word: bool = option_field((False, True), default=False)
+    words: tuple[str, ...] = input_field(metavar="WORD")
+    subwords: bool = subwords_option()
+    exact_word: bool = exact_word_option()
 
     def title(self) -> str:
         return "similarity of " + ", ".join(self.words)
-
-    def options(self) -> list[str]:
-        return ([] if self.subwords else ["no subwords"]) + (["exact words"] if self.exact_word else [])
 
     @classmethod
     def example(cls, words: list[str]) -> Similarity:

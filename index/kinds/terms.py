@@ -26,7 +26,19 @@ from numpy.typing import NDArray
 
 from wordkin.index.errors import UsageError
 from wordkin.index.forms import is_form_of
-from wordkin.index.kinds.base import Diff, Query, Result, Table, option_field, rank_diff, register
+from wordkin.index.kinds.base import (
+    Diff,
+    Query,
+    Result,
+    Table,
+    exact_search_option,
+    exact_word_option,
+    option_field,
+    rank_diff,
+    register,
+    subwords_option,
+    top_option,
+)
 from wordkin.index.kinds.rows import SubwordWord
 from wordkin.index.search import check_k, check_top, top_for_vector, unit_query
 from wordkin.index.session import Session
@@ -124,16 +136,53 @@ class TermSuggest(Query):
     dropped: tuple[str, ...] = ()
     #: Words set aside for later: not candidates, not members.
     aside: tuple[str, ...] = ()
-    k: int = option_field((5, 20), default=20)
-    gamma: float = option_field((0.0, DEFAULT_GAMMA), default=DEFAULT_GAMMA)
-    support_k: int = option_field((DEFAULT_SUPPORT_K,), default=DEFAULT_SUPPORT_K)
-    top: int | None = option_field((None, 500), default=None)
-    hide_forms: bool = option_field((False, True), default=False)
-    include: str = option_field(("", "^[a-z]"), default="")
-    exclude: str = option_field(("", "s$"), default="")
-    exact: bool = option_field((False, True), default=False)
-    subwords: bool = option_field((True, False), default=True)
-    exact_word: bool = option_field((False, True), default=False)
+    k: int = option_field((5, 20), default=20, flag="-k", label="k", positive=True, help="how many candidates")
+    gamma: float = option_field(
+        (0.0, DEFAULT_GAMMA),
+        default=DEFAULT_GAMMA,
+        flag="--gamma",
+        label="gamma",
+        show="{:g}",
+        help=f"weight of the dropped words (default {DEFAULT_GAMMA:g})",
+    )
+    support_k: int = option_field(
+        (DEFAULT_SUPPORT_K,),
+        default=DEFAULT_SUPPORT_K,
+        flag="--support-k",
+        label="support k",
+        help="neighbours counted for support",
+    )
+    top: int | None = top_option((None, 500), "candidates")
+    hide_forms: bool = option_field(
+        (False, True),
+        default=False,
+        flag="--hide-forms",
+        label="hide forms",
+        help="leave out forms of the list's words",
+    )
+    include: str = option_field(
+        ("", "^[a-z]"),
+        default="",
+        flag="--include",
+        label="include",
+        short="only",
+        show="/{}/",
+        metavar="RE",
+        help="only candidates matching this regular expression",
+    )
+    exclude: str = option_field(
+        ("", "s$"),
+        default="",
+        flag="--exclude",
+        label="exclude",
+        short="not",
+        show="/{}/",
+        metavar="RE",
+        help="no candidates matching this regular expression",
+    )
+    exact: bool = exact_search_option()
+    subwords: bool = subwords_option()
+    exact_word: bool = exact_word_option()
 
     @property
     def members(self) -> tuple[str, ...]:
@@ -149,22 +198,6 @@ class TermSuggest(Query):
     @classmethod
     def example(cls, words: list[str]) -> TermSuggest:
         return cls("example", tuple(words[10:12]), kept=(words[12],), dropped=(words[13],))
-
-    def options(self) -> list[str]:
-        out = [f"k {self.k}", f"gamma {self.gamma:g}", f"support k {self.support_k}", f"top {self.top or 'all'}"]
-        if self.hide_forms:
-            out.append("hide forms")
-        if self.include:
-            out.append(f"include /{self.include}/")
-        if self.exclude:
-            out.append(f"exclude /{self.exclude}/")
-        if self.exact:
-            out.append("exact search")
-        if not self.subwords:
-            out.append("no subwords")
-        if self.exact_word:
-            out.append("exact words")
-        return out
 
     def run(self, session: Session) -> TermsResult:
         t0 = time.perf_counter()

@@ -75,7 +75,7 @@ def main() -> None:
         ]
     )
     exprs = [" ".join((vs.words[int(b)], "-", vs.words[int(a)], "+", vs.words[int(c)])) for a, b, c in triples]
-    exact_top1 = [Arithmetic(e, 1).run(exact).rows[0].word for e in exprs]
+    exact_top1 = [Arithmetic(e, k=1).run(exact).rows[0].word for e in exprs]
     for a, b, c in triples:
         t0 = time.perf_counter()
         kv.most_similar(positive=[vs.words[int(b)], vs.words[int(c)]], negative=[vs.words[int(a)]], topn=10)
@@ -83,7 +83,7 @@ def main() -> None:
     time.sleep(0.5)
     for e, want in zip(exprs, exact_top1, strict=True):
         t0 = time.perf_counter()
-        got = Arithmetic(e, 10).run(session)
+        got = Arithmetic(e, k=10).run(session)
         c_ann.append(time.perf_counter() - t0)
         agree += got.rows[0].word == want
     ms = lambda xs, q=50: float(np.percentile(xs, q) * 1000)  # noqa: E731

@@ -10,11 +10,12 @@ from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding
 from textual.containers import Horizontal
-from textual.widgets import Checkbox, DataTable, Input, Label, Select, Static
+from textual.widgets import Checkbox, DataTable, Input, Select, Static
 
 from wordkin.console.formats.safe_text import visible
+from wordkin.console.tui.option_widgets import OptionCheckbox, OptionSelect, labelled
 from wordkin.console.tui.panes.base import QueryPane
-from wordkin.console.tui.widgets import NeighbourTable, error_text, int_option, int_value, word_text
+from wordkin.console.tui.widgets import NeighbourTable, error_text, word_text
 from wordkin.index.errors import UsageError, WordkinError
 from wordkin.index.expressions import ExprError, parse, to_text, words_of
 from wordkin.index.kinds import Arithmetic, CalcResult, Neighbours, Query, Result
@@ -35,13 +36,11 @@ class ArithmeticPane(QueryPane):
         yield Input(placeholder="e.g.  paris - france + italy   or   hotel : hotels :: inn : ?", id="ar-expr")
         yield Static("", id="ar-check", classes="check")
         with Horizontal(classes="options"):
-            yield Select([("3CosAdd", "add"), ("3CosMul", "mul")], value="add", allow_blank=False, id="ar-method")
-            yield Label("k")
-            yield Input("10", id="ar-k", type="integer", classes="small")
-            yield Label("top")
-            yield Input("", id="ar-top", type="integer", placeholder="all", classes="small")
-            yield Checkbox("keep inputs", id="ar-keep")
-            yield Checkbox("exact", id="ar-exact")
+            yield OptionSelect(Arithmetic, "method", id="ar-method")
+            yield from labelled(Arithmetic, "k", id="ar-k", classes="small")
+            yield from labelled(Arithmetic, "top", id="ar-top", classes="small")
+            yield OptionCheckbox(Arithmetic, "keep_inputs", id="ar-keep")
+            yield OptionCheckbox(Arithmetic, "exact", id="ar-exact")
         yield Static("", id="ar-message", classes="message")
         yield NeighbourTable(id="ar-table", mutual=False)
 
@@ -51,39 +50,14 @@ class ArithmeticPane(QueryPane):
         text = self.query_one("#ar-expr", Input).value
         if not text.strip():
             raise UsageError("type an expression")
-        return Arithmetic(
-            text,
-            int_value(self.query_one("#ar-k", Input), "k", 10),
-            str(self.query_one("#ar-method", Select).value),
-            int_option(self.query_one("#ar-top", Input), "top", None),
-            self.query_one("#ar-keep", Checkbox).value,
-            self.query_one("#ar-exact", Checkbox).value,
-            self.subwords,
-            self.exact_word,
-        )
+        return Arithmetic(expression=text, **self.option_values())
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Arithmetic)
-        self.subwords = query.subwords
-        self.exact_word = query.exact_word
-        values = {
-            "#ar-expr": query.expression,
-            "#ar-k": str(query.k),
-            "#ar-top": "" if query.top is None else str(query.top),
-        }
-        for sel, value in values.items():
-            box = self.query_one(sel, Input)
-            if box.value != value:
-                box.value = value
-        sel_m = self.query_one("#ar-method", Select)
-        if sel_m.value != query.method:
-            with sel_m.prevent(Select.Changed):
-                sel_m.value = query.method
-        for sel, flag in (("#ar-keep", query.keep_inputs), ("#ar-exact", query.exact)):
-            cb = self.query_one(sel, Checkbox)
-            if cb.value != flag:
-                with cb.prevent(Checkbox.Changed):
-                    cb.value = flag
+        self.show_options(query)
+        box = self.query_one("#ar-expr", Input)
+        if box.value != query.expression:
+            box.value = query.expression
         self.ask(query)
 
     # -- actions and events ----------------------------------------------------------------------------
@@ -140,7 +114,7 @@ class ArithmeticPane(QueryPane):
         if isinstance(res, CalcResult):
             i = int(str(event.row_key.value))
             if i < len(res.rows):
-                self.post_message(self.OpenRequested(Neighbours(res.rows[i].word, subwords=res.query.subwords)))
+                self.post_message(self.OpenRequested(Neighbours(word=res.rows[i].word, subwords=res.query.subwords)))
 
     # -- showing ---------------------------------------------------------------------------------------
 

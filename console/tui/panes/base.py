@@ -18,8 +18,9 @@ from textual.containers import Vertical
 from textual.message import Message
 from textual.worker import get_current_worker
 
+from wordkin.console.tui.option_widgets import OPTION_WIDGETS
 from wordkin.index.errors import CancelledError, UsageError, WordkinError
-from wordkin.index.kinds.base import Query, Result
+from wordkin.index.kinds.base import Query, Result, option_fields
 from wordkin.index.session import Session
 
 
@@ -113,6 +114,29 @@ class QueryPane(Vertical):
         self.subwords = True
         #: Look words up only as typed (every kind's ``exact_word``; Ctrl+Y): no NFC, case or spaces-as-_ variants.
         self.exact_word = False
+
+    # -- the options, read and set through the option widgets (``option_widgets``) -----------------------------
+
+    def option_values(self) -> dict[str, Any]:
+        """Every option of the pane's kind that its widgets (and the Ctrl+G / Ctrl+Y toggles) hold, by name."""
+        names = {f.name for f in option_fields(self.kind)}
+        out: dict[str, Any] = {}
+        for w in self.query("*"):
+            if isinstance(w, OPTION_WIDGETS) and w.option in names:
+                out[w.option] = w.option_value()
+        for name in ("subwords", "exact_word"):
+            if name in names:
+                out[name] = getattr(self, name)
+        return out
+
+    def show_options(self, query: Query) -> None:
+        """Set every option widget (and the toggles) to ``query``'s values."""
+        for w in self.query("*"):
+            if isinstance(w, OPTION_WIDGETS) and hasattr(query, w.option):
+                w.show_value(getattr(query, w.option))
+        for name in ("subwords", "exact_word"):
+            if hasattr(query, name):
+                setattr(self, name, getattr(query, name))
 
     # -- to be provided by each pane -------------------------------------------------------------------------
 

@@ -12,11 +12,12 @@ from textual.binding import Binding
 from textual.containers import Horizontal
 from textual.message import Message
 from textual.timer import Timer
-from textual.widgets import Checkbox, DataTable, Input, Label, Static
+from textual.widgets import Checkbox, DataTable, Input, Static
 
 from wordkin.console.formats.safe_text import visible
+from wordkin.console.tui.option_widgets import OptionCheckbox, labelled
 from wordkin.console.tui.panes.base import QueryPane
-from wordkin.console.tui.widgets import NeighbourTable, WordInput, error_text, int_option, int_value, word_text
+from wordkin.console.tui.widgets import NeighbourTable, WordInput, error_text, word_text
 from wordkin.index.errors import UsageError, WordkinError
 from wordkin.index.kinds import NeighbourResult, Neighbours, Query, Result
 from wordkin.index.search import mutual
@@ -66,13 +67,11 @@ class NeighboursPane(QueryPane):
         yield WordInput(placeholder="a word, then Enter  (e.g. harbour)", id="nb-word")
         yield Static("", id="nb-complete", classes="line")
         with Horizontal(classes="options"):
-            yield Label("k")
-            yield Input("10", id="nb-k", type="integer", classes="small")
-            yield Label("top")
-            yield Input("", id="nb-top", type="integer", placeholder="all", classes="small")
-            yield Checkbox("hide forms", id="nb-hide")
-            yield Checkbox("fold case", id="nb-fold")
-            yield Checkbox("exact", id="nb-exact")
+            yield from labelled(Neighbours, "k", id="nb-k", classes="small")
+            yield from labelled(Neighbours, "top", id="nb-top", classes="small")
+            yield OptionCheckbox(Neighbours, "hide_forms", id="nb-hide")
+            yield OptionCheckbox(Neighbours, "fold_case", id="nb-fold")
+            yield OptionCheckbox(Neighbours, "exact", id="nb-exact")
         yield Static("", id="nb-message", classes="message")
         compare_line = Static("", id="nb-compare", classes="line")
         compare_line.display = False  # shown when a second set is open (--against)
@@ -92,16 +91,7 @@ class NeighboursPane(QueryPane):
         text = self.query_one("#nb-word", Input).value.strip()
         if not text:
             raise UsageError("type a word")
-        return Neighbours(
-            self.word(text),
-            int_value(self.query_one("#nb-k", Input), "k", 10),
-            int_option(self.query_one("#nb-top", Input), "top", None),
-            self.query_one("#nb-hide", Checkbox).value,
-            self.query_one("#nb-fold", Checkbox).value,
-            self.query_one("#nb-exact", Checkbox).value,
-            self.subwords,
-            self.exact_word,
-        )
+        return Neighbours(word=self.word(text), **self.option_values())
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Neighbours)
@@ -110,19 +100,11 @@ class NeighboursPane(QueryPane):
         self.ask(query)
 
     def _set_widgets(self, q: Neighbours) -> None:
-        self.subwords = q.subwords
-        self.exact_word = q.exact_word
-        values = {"#nb-word": visible(q.word), "#nb-k": str(q.k), "#nb-top": "" if q.top is None else str(q.top)}
-        for sel, value in values.items():
-            box = self.query_one(sel, Input)
-            if box.value != value:
-                with box.prevent(Input.Changed):
-                    box.value = value
-        for sel, flag in (("#nb-hide", q.hide_forms), ("#nb-fold", q.fold_case), ("#nb-exact", q.exact)):
-            cb = self.query_one(sel, Checkbox)
-            if cb.value != flag:
-                with cb.prevent(Checkbox.Changed):
-                    cb.value = flag
+        self.show_options(q)
+        box = self.query_one("#nb-word", Input)
+        if box.value != visible(q.word):
+            with box.prevent(Input.Changed):
+                box.value = visible(q.word)
 
     def _record(self, q: Neighbours, from_row: int | None = None) -> None:
         del self.history[self.position + 1 :]
@@ -203,16 +185,8 @@ class NeighboursPane(QueryPane):
             return
         i = int(str(event.row_key.value))
         if i < len(res.rows):
-            q = Neighbours(
-                res.rows[i].word,
-                res.query.k,
-                res.query.top,
-                res.query.hide_forms,
-                False,
-                res.query.exact,
-                res.query.subwords,
-                res.query.exact_word,
-            )
+            # the same options, the drilled-to word as it stands in the vocabulary
+            q = dataclasses.replace(res.query, word=res.rows[i].word, fold_case=False)
             self._set_widgets(q)
             self._record(q, from_row=i)
             self.ask(q)

@@ -22,9 +22,10 @@ from textual.widgets import DataTable, Input, Label, Select, Static
 
 from wordkin.console.formats.notebook_export import FORMATS, render, text_entry, write_file
 from wordkin.console.formats.output_file import FileExistsUsageError
+from wordkin.console.formats.rerun_report import diff_text
 from wordkin.console.formats.safe_text import visible
 from wordkin.console.store.notebook import Entry, Notebook, now
-from wordkin.console.store.rerun_diff import diff_text, rerun
+from wordkin.console.store.rerun import rerun
 from wordkin.console.tui.notebook_jobs import BUSY_AFTER, NotebookJobs, NotebookJobsHost
 from wordkin.console.tui.panes.base import SessionChanged
 from wordkin.index.errors import WordkinError

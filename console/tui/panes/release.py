@@ -17,8 +17,9 @@ from textual.widgets import DataTable, Input, Label, Static
 from wordkin.console.formats.plots import histogram_lines
 from wordkin.console.formats.safe_text import visible
 from wordkin.console.formats.text_tables import table_lines
+from wordkin.console.tui.option_widgets import labelled
 from wordkin.console.tui.panes.base import QueryPane
-from wordkin.console.tui.widgets import error_text, int_value, word_text
+from wordkin.console.tui.widgets import error_text, word_text
 from wordkin.index.errors import WordkinError
 from wordkin.index.kinds import Checkup, CheckupResult, Compare, CompareResult, Query, Result
 
@@ -46,12 +47,9 @@ class ComparePane(QueryPane):
 
     def compose(self) -> ComposeResult:
         with Horizontal(classes="options"):
-            yield Label("k")
-            yield Input("10", id="cmp-k", type="integer", classes="small")
-            yield Label("top")
-            yield Input("10000", id="cmp-top", type="integer", classes="small")
-            yield Label("most")
-            yield Input("20", id="cmp-most", type="integer", classes="small")
+            yield from labelled(Compare, "k", id="cmp-k", classes="small")
+            yield from labelled(Compare, "top", id="cmp-top", classes="small")
+            yield from labelled(Compare, "most", id="cmp-most", classes="small")
         yield Static("", id="cmp-message", classes="message")
         with VerticalScroll(id="cmp-summary-box"):
             yield Static("", id="cmp-summary")
@@ -75,19 +73,11 @@ class ComparePane(QueryPane):
             self.show_message(Text(f"Ctrl+R compares with {visible(src)}", style="italic"))
 
     def current_query(self) -> Compare:
-        return Compare(
-            int_value(self.query_one("#cmp-k", Input), "k", 10),
-            int_value(self.query_one("#cmp-top", Input), "top", 10_000),
-            self.words,
-            int_value(self.query_one("#cmp-most", Input), "most", 20),
-            self.pairs,
-            self.analogies,
-        )
+        return Compare(words=self.words, pairs=self.pairs, analogies=self.analogies, **self.option_values())
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Compare)
-        for sel, v in (("#cmp-k", query.k), ("#cmp-top", query.top), ("#cmp-most", query.most)):
-            self.query_one(sel, Input).value = str(v)
+        self.show_options(query)
         self.words, self.pairs, self.analogies = query.words, query.pairs, query.analogies
         self.ask(query)
 
@@ -161,8 +151,7 @@ class CheckupPane(QueryPane):
 
     def compose(self) -> ComposeResult:
         with Horizontal(classes="options"):
-            yield Label("k")
-            yield Input("10", id="chk-k", type="integer", classes="small")
+            yield from labelled(Checkup, "k", id="chk-k", classes="small")
             yield Label("pairs")
             yield Input("", id="chk-pairs", placeholder="files, comma-separated", classes="wide")
         with Horizontal(classes="options"):
@@ -174,14 +163,14 @@ class CheckupPane(QueryPane):
 
     def current_query(self) -> Checkup:
         return Checkup(
-            _paths(self.query_one("#chk-pairs", Input).value),
-            _paths(self.query_one("#chk-analogies", Input).value),
-            int_value(self.query_one("#chk-k", Input), "k", 10),
+            pairs=_paths(self.query_one("#chk-pairs", Input).value),
+            analogies=_paths(self.query_one("#chk-analogies", Input).value),
+            **self.option_values(),
         )
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Checkup)
-        self.query_one("#chk-k", Input).value = str(query.k)
+        self.show_options(query)
         self.query_one("#chk-pairs", Input).value = ", ".join(query.pairs)
         self.query_one("#chk-analogies", Input).value = ", ".join(query.analogies)
         self.ask(query)

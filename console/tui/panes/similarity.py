@@ -55,12 +55,11 @@ class SimilarityPane(QueryPane):
         words = tuple(self.word(w) for w in split_words(self.query_one("#sm-words", Input).value))
         if not words:
             raise UsageError("type two or more words")
-        return Similarity(words, self.subwords, self.exact_word)
+        return Similarity(words=words, **self.option_values())
 
     def load_query(self, query: Query) -> None:
         assert isinstance(query, Similarity)
-        self.subwords = query.subwords
-        self.exact_word = query.exact_word
+        self.show_options(query)
         self.query_one("#sm-words", Input).value = " ".join(
             f'"{visible_word(w)}"' if (" " in w or "," in w) else visible_word(w) for w in query.words
         )

@@ -34,11 +34,11 @@ from wordkin.console.store.term_lists import (
     undo,
 )
 from wordkin.console.tui.notebook_jobs import BUSY_AFTER, NotebookJobs, NotebookJobsHost
+from wordkin.console.tui.option_widgets import OptionCheckbox, labelled
 from wordkin.console.tui.panes.base import QueryPane
-from wordkin.console.tui.widgets import bar, error_text, int_option, int_value, word_text
+from wordkin.console.tui.widgets import bar, error_text, word_text
 from wordkin.index.errors import UsageError, WordkinError
 from wordkin.index.kinds import Query, Result, TermsResult, TermSuggest
-from wordkin.index.kinds.terms import DEFAULT_GAMMA, DEFAULT_SUPPORT_K
 
 
 class TermsPane(NotebookJobsHost, QueryPane):
@@ -79,21 +79,15 @@ class TermsPane(NotebookJobsHost, QueryPane):
             yield Input(placeholder="n: new list  NAME: seed seed …", id="tm-name", classes="wide")
         yield Static("", id="tm-terms", classes="line")
         with Horizontal(classes="options"):
-            yield Label("k")
-            yield Input("20", id="tm-k", type="integer", classes="small")
-            yield Label("gamma")
-            yield Input(f"{DEFAULT_GAMMA:g}", id="tm-gamma", type="number", classes="small")
-            yield Label("top")
-            yield Input("", id="tm-top", type="integer", placeholder="all", classes="small")
-            yield Label("support k")
-            yield Input(str(DEFAULT_SUPPORT_K), id="tm-support", type="integer", classes="small")
+            yield from labelled(TermSuggest, "k", id="tm-k", classes="small")
+            yield from labelled(TermSuggest, "gamma", id="tm-gamma", classes="small")
+            yield from labelled(TermSuggest, "top", id="tm-top", classes="small")
+            yield from labelled(TermSuggest, "support_k", id="tm-support", classes="small")
         with Horizontal(classes="options"):
-            yield Checkbox("hide forms", id="tm-hide")
-            yield Checkbox("exact", id="tm-exact")
-            yield Label("only")
-            yield Input("", id="tm-include", placeholder="regex", classes="small")
-            yield Label("not")
-            yield Input("", id="tm-exclude", placeholder="regex", classes="small")
+            yield OptionCheckbox(TermSuggest, "hide_forms", id="tm-hide")
+            yield OptionCheckbox(TermSuggest, "exact", id="tm-exact")
+            yield from labelled(TermSuggest, "include", id="tm-include", placeholder="regex", classes="small")
+            yield from labelled(TermSuggest, "exclude", id="tm-exclude", placeholder="regex", classes="small")
         yield Static("", id="tm-message", classes="message")
         yield DataTable(id="tm-table", cursor_type="row", zebra_stripes=True)
         with Horizontal(classes="options"):
@@ -184,52 +178,12 @@ class TermsPane(NotebookJobsHost, QueryPane):
         st = self.state
         if st is None:
             raise UsageError("choose a term list, or make one: n, then NAME: seed seed …")
-        gamma_text = self.query_one("#tm-gamma", Input).value.strip()
-        try:
-            gamma = float(gamma_text) if gamma_text else DEFAULT_GAMMA
-        except ValueError:
-            raise UsageError(f"gamma must be a number, not {gamma_text!r}") from None
-        return TermSuggest(
-            st.name,
-            st.seeds,
-            st.kept,
-            st.dropped,
-            st.aside,
-            k=int_value(self.query_one("#tm-k", Input), "k", 20),
-            gamma=gamma,
-            support_k=int_value(self.query_one("#tm-support", Input), "support k", DEFAULT_SUPPORT_K),
-            top=int_option(self.query_one("#tm-top", Input), "top", None),
-            hide_forms=self.query_one("#tm-hide", Checkbox).value,
-            include=self.query_one("#tm-include", Input).value,
-            exclude=self.query_one("#tm-exclude", Input).value,
-            exact=self.query_one("#tm-exact", Checkbox).value,
-            subwords=self.subwords,
-            exact_word=self.exact_word,
-        )
+        return TermSuggest(st.name, st.seeds, st.kept, st.dropped, st.aside, **self.option_values())
 
     def load_query(self, query: Query) -> None:
         """Show a saved suggestion: its list's state and every option (decisions need the list in the notebook)."""
         assert isinstance(query, TermSuggest)
-        self.subwords = query.subwords
-        self.exact_word = query.exact_word
-        values = {
-            "#tm-k": str(query.k),
-            "#tm-gamma": f"{query.gamma:g}",
-            "#tm-top": "" if query.top is None else str(query.top),
-            "#tm-support": str(query.support_k),
-            "#tm-include": query.include,
-            "#tm-exclude": query.exclude,
-        }
-        for sel, value in values.items():
-            box = self.query_one(sel, Input)
-            if box.value != value:
-                with box.prevent(Input.Changed):
-                    box.value = value
-        for sel, flag in (("#tm-hide", query.hide_forms), ("#tm-exact", query.exact)):
-            cb = self.query_one(sel, Checkbox)
-            if cb.value != flag:
-                with cb.prevent(Checkbox.Changed):
-                    cb.value = flag
+        self.show_options(query)
         self.state = query
         self._terms_line()
         self.ask(query)

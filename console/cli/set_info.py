@@ -1,8 +1,4 @@
-"""One function per ``wordkin`` subcommand. Each takes the parsed arguments and returns the exit code.
-
-The query commands (``near``, ``calc``, ``sim``) share one path: arguments -> query value (``cli_queries``) ->
-``query.run(session)`` -> a renderer (``render`` or the result's JSON) -> optionally the notebook.
-"""
+"""``wordkin prepare`` and ``wordkin info``: build a set's cache and index now, and say what they hold."""
 
 from __future__ import annotations
 
@@ -11,70 +7,10 @@ import sys
 from typing import Any
 
 from wordkin.console.cli.io import emit_json, note, open_session, open_set
-from wordkin.console.cli.query_commands import BY_NAME
+from wordkin.console.cli.registry import Command, register
 from wordkin.console.formats.safe_text import visible
-from wordkin.console.formats.text_tables import result_text
 from wordkin.index.errors import UsageError
-from wordkin.index.expressions import ExprError
-from wordkin.index.kinds.base import Result
-from wordkin.index.search import MAX_K
 from wordkin.index.session import Session
-
-
-def cmd_query(args: argparse.Namespace) -> int:
-    """``near``, ``calc`` or ``sim``: build the query from the arguments, answer it, print it, maybe save it."""
-    build = BY_NAME[args.cmd].build
-    assert build is not None
-    query = build(args)
-    session = open_session(args, want_index=not getattr(args, "exact", False))
-    k = getattr(args, "k", None)
-    if k is not None and k > MAX_K:
-        raise UsageError(f"-k is at most {MAX_K:,}, not {k:,} (the vocabulary has {session.vectors.n:,} words)")
-    try:
-        res = query.run(session)
-    except ExprError as exc:
-        from rich.cells import cell_len
-
-        text = exc.text.replace("\n", " ").replace("\t", " ")
-        caret = " " * cell_len(visible(text[: exc.column])) + "^"
-        print(f"wordkin: expression, column {exc.column + 1}: {visible(exc.expected)}", file=sys.stderr)
-        print(f"  {visible(text)}\n  {caret}", file=sys.stderr)
-        return exc.exit_code
-    emit_json(res.to_json()) if args.json else sys.stdout.write(result_text(res))
-    _maybe_save(args, session, res)
-    return 0
-
-
-def _maybe_save(args: argparse.Namespace, session: Session, res: Result) -> None:
-    if not getattr(args, "save", None):
-        return
-    from wordkin.console.store.notebook import Entry, Notebook
-
-    with Notebook.open(args.save) as nb:
-        entry_id = nb.add(Entry.of(res, session.vectors, note=args.note))
-    note(f"saved as entry {entry_id} in {args.save}")
-
-
-def cmd_score(args: argparse.Namespace) -> int:
-    from wordkin.console.cli.progress_bar import stderr_progress
-    from wordkin.console.formats.text_tables import score_text
-    from wordkin.index.scoring import score_analogies, score_pairs
-
-    vs = open_set(args)
-    if args.analogies:
-        with stderr_progress() as report:
-            res: Any = score_analogies(
-                vs,
-                args.analogies,
-                method=args.method,
-                top=args.top,
-                case_fold=args.case_fold,
-                progress=report,
-            )
-    else:
-        res = score_pairs(vs, args.pairs, top=args.top, case_fold=args.case_fold)
-    emit_json(res.to_json()) if args.json else sys.stdout.write(score_text(res))
-    return 0
 
 
 def info_dict(session: Session) -> dict[str, Any]:
@@ -206,89 +142,17 @@ def cmd_prepare(args: argparse.Namespace) -> int:
     return 0
 
 
-def cmd_export(args: argparse.Namespace) -> int:
-    from wordkin.console.cli.io import emit_output
-    from wordkin.console.formats.notebook_export import export_command
-
-    emit_output(args, export_command(args))
-    return 0
+def _prepare_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("file")
+    p.add_argument("--trees", type=int, metavar="N", help="annoy trees (default chosen by set size)")
 
 
-def cmd_import(args: argparse.Namespace) -> int:
-    """A notebook export or a term-list export, read and checked whole before the notebook is opened or created."""
-    from wordkin.console.formats import notebook_export as export
-    from wordkin.console.formats import term_list_export as terms_export
-    from wordkin.console.store import term_lists as terms
-    from wordkin.console.store.notebook import Notebook
-    from wordkin.index.errors import UnreadableFileError
-
-    doc = export.read_export(args.json_file)
-    fmt = doc.get("format")
-    if fmt == export.JSON_FORMAT:
-        entries = export.read_entries(args.json_file, doc)
-        with Notebook.open(args.notebook) as nb:
-            n = export.add_entries(nb, entries)
-        note(f"imported {n} entr{'y' if n == 1 else 'ies'} into {args.notebook}")
-    elif fmt == terms_export.JSON_FORMAT:
-        tl = terms_export.read_json(args.json_file, doc)
-        with Notebook.open(args.notebook) as nb:
-            terms.import_list(nb, tl)
-        note(f"imported term list {tl.name!r} ({len(tl.terms)} terms) into {args.notebook}")
-    else:
-        raise UnreadableFileError(
-            args.json_file, 'not a wordkin export (its "format" is neither a notebook nor a term list)'
-        )
-    return 0
+def _info_arguments(p: argparse.ArgumentParser) -> None:
+    p.add_argument("file")
+    p.add_argument("--json", action="store_true")
 
 
-def cmd_open(args: argparse.Namespace) -> int:
-    from wordkin.console.tui.app import run_console
-
-    return run_console(args.file, args)
-
-
-def cmd_demo(args: argparse.Namespace) -> int:
-    from wordkin.demo_vectors import demo_path, fasttext_path
-
-    path = fasttext_path() if args.fasttext else demo_path()
-    if args.path:
-        print(path)
-        return 0
-    from wordkin.console.tui.app import run_console
-
-    return run_console(str(path), args)
-
-
-def cmd_terms(args: argparse.Namespace) -> int:
-    from wordkin.console.cli.terms import cmd_terms as run
-
-    return run(args)
-
-
-def cmd_checkup(args: argparse.Namespace) -> int:
-    from wordkin.console.cli.release import cmd_checkup as run
-
-    return run(args)
-
-
-def cmd_compare(args: argparse.Namespace) -> int:
-    from wordkin.console.cli.release import cmd_compare as run
-
-    return run(args)
-
-
-HANDLERS = {
-    "checkup": cmd_checkup,
-    "compare": cmd_compare,
-    "terms": cmd_terms,
-    "near": cmd_query,
-    "calc": cmd_query,
-    "sim": cmd_query,
-    "score": cmd_score,
-    "info": cmd_info,
-    "prepare": cmd_prepare,
-    "export": cmd_export,
-    "import": cmd_import,
-    "open": cmd_open,
-    "demo": cmd_demo,
-}
+register(
+    Command("prepare", "build the cache and the index now, then print a summary", cmd_prepare, _prepare_arguments, 20)
+)
+register(Command("info", "words, dims, format, cache and index state", cmd_info, _info_arguments, 21))

@@ -1,21 +1,11 @@
-"""Re-run a saved entry against the session now open and say what changed (gained, lost, moved, changed cells)."""
+"""What a re-run changed, in words: gained, lost and moved words, changed cells (``store.rerun`` answers again)."""
 
 from __future__ import annotations
 
 from typing import Any
 
 from wordkin.console.formats.safe_text import visible
-from wordkin.console.store.notebook import Entry
 from wordkin.index.kinds.base import Diff
-from wordkin.index.session import Session
-
-
-def rerun(entry: Entry, session: Session) -> tuple[Entry, Diff]:
-    """The saved query, with every option it was saved with, answered again; pinned to exact search where the
-    saved answer was exact. Returns the new entry (not saved) and its difference from the saved one."""
-    res = entry.query.with_mode(entry.result.mode).run(session)
-    new = Entry.of(res, session.vectors, note=entry.note)
-    return new, entry.result.diff(res)
 
 
 def diff_text(d: Diff, old_set: dict[str, Any], new_set: dict[str, Any]) -> str:
