@@ -143,15 +143,6 @@ def write_meta(dir_: Path, meta: CacheMeta) -> None:
     write_json_atomic(dir_ / "meta.json", meta.to_json())
 
 
-def default_root() -> Path:
-    env = os.environ.get("WORDKIN_CACHE")
-    if env:
-        return Path(env)
-    from platformdirs import user_cache_dir
-
-    return Path(user_cache_dir("wordkin", appauthor=False))
-
-
 def content_fingerprint(path: Path) -> tuple[str, int, int]:
     """``(hash, size, mtime_ns)``: blake2b of the size and the first and last MiB (common practice for big files)."""
     st = path.stat()

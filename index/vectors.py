@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 from numpy.typing import NDArray
 
-from wordkin.index import cache
+from wordkin.index import cache, locations
 from wordkin.index.errors import UnknownWordError, UnreadableFileError, WordkinError
 from wordkin.index.progress import CancelFn, ProgressFn, check
 from wordkin.index.readers.base import Detected
@@ -176,7 +176,7 @@ def open_vectors(
             cache.discard(tmp)  # the maps stay valid after the files are unlinked
         vs.cache_note = "off"
         return vs
-    root = Path(cache_root) if cache_root is not None else cache.default_root()
+    root = Path(cache_root) if cache_root is not None else locations.cache_root()
     key = cache.cache_key(src)
     final = root / key
     note = "built"

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Any
 
 from wordkin.console.store.legacy_v1 import upgrade_v1
+from wordkin.index import locations
 from wordkin.index.errors import UnreadableFileError, WordkinError
 from wordkin.index.kinds import Query, Result, query_from_json, result_from_json
 
@@ -114,15 +115,6 @@ MIGRATIONS: dict[int, list[str | Callable[[sqlite3.Connection], None]]] = {
         )""",
     ],
 }
-
-
-def default_path() -> Path:
-    env = os.environ.get("WORDKIN_DATA")
-    if env:
-        return Path(env) / "notebook.wkn"
-    from platformdirs import user_data_dir
-
-    return Path(user_data_dir("wordkin", appauthor=False)) / "notebook.wkn"
 
 
 def now() -> str:
@@ -263,7 +255,7 @@ class Notebook:
     def open(
         cls, path: str | os.PathLike[str] | None = None, *, create: bool = True, readonly: bool = False
     ) -> Notebook:
-        p = Path(path) if path is not None else default_path()
+        p = Path(path) if path is not None else locations.notebook_path()
         if not p.exists():
             if not create:
                 raise UnreadableFileError(str(p), "no such notebook")

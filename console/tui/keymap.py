@@ -11,7 +11,6 @@ An unknown id or a key that is not a key name is left out and said in one warnin
 
 from __future__ import annotations
 
-import os
 import tomllib
 import unicodedata
 from collections.abc import Iterable
@@ -20,17 +19,10 @@ from pathlib import Path
 from textual.binding import Binding, BindingType
 from textual.keys import Keys
 
+from wordkin.index import locations
+
 MODIFIERS = {"ctrl", "alt", "shift", "super", "meta", "hyper"}
 _NAMED = {k.value for k in Keys}
-
-
-def keymap_path() -> Path:
-    env = os.environ.get("WORDKIN_CONFIG")
-    if env:
-        return Path(env) / "keymap.toml"
-    from platformdirs import user_config_dir
-
-    return Path(user_config_dir("wordkin", appauthor=False)) / "keymap.toml"
 
 
 def is_key(key: str) -> bool:
@@ -53,7 +45,7 @@ def binding_ids(groups: Iterable[Iterable[BindingType]]) -> set[str]:
 
 def load_keymap(known_ids: set[str], path: Path | None = None) -> tuple[dict[str, str], str]:
     """``(keymap, warning)``: the valid entries of the user's file, and one line about what was left out."""
-    p = path or keymap_path()
+    p = path or locations.keymap_path()
     if not p.is_file():
         return {}, ""
     try:
