@@ -128,8 +128,9 @@ def _golden_list(path: Path):
         create_list(nb, "lodging", ["hotel", "inn"], created="2026-11-30T09:00:00+00:00")
         decide(nb, "lodging", ["hostel", "guest house, self-catering", "back\\slash"], "kept", by="mira")
         decide(nb, "lodging", ["balcony"], "dropped", note="a feature, not a place to stay", by="mira")
-        nb.con.execute("UPDATE term_decisions SET decided = '2026-11-30T09:05:00+00:00'")
-        nb.con.execute("UPDATE term_lists SET updated = '2026-11-30T09:05:00+00:00'")
+        with nb.transaction() as con:  # fixed times, so the golden files do not change with the clock
+            con.execute("UPDATE term_decisions SET decided = '2026-11-30T09:05:00+00:00'")
+            con.execute("UPDATE term_lists SET updated = '2026-11-30T09:05:00+00:00'")
         return get_list(nb, "lodging")
 
 

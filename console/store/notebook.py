@@ -8,12 +8,13 @@ created. The schema version is SQLite's ``user_version``; ``MIGRATIONS`` brings 
 
 from __future__ import annotations
 
+import contextlib
 import json
 import os
 import sqlite3
 import time
 import uuid
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
 from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
@@ -52,10 +53,22 @@ def _upgrade_entries_v2(con: sqlite3.Connection) -> None:
         "SELECT id, position, kind, query, params, vector_set, result, note, created, updated, deleted FROM entries"
     ).fetchall()
     for r in rows:
-        query, result = upgrade_v1(r[2], json.loads(r[3]), json.loads(r[4]), json.loads(r[6]))
+        query, result = upgrade_v1(r["kind"], json.loads(r["query"]), json.loads(r["params"]), json.loads(r["result"]))
         con.execute(
-            "INSERT INTO entries_v2 VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
-            (r[0], r[1], r[2], _dump(query), r[5], _dump(result), r[7], r[8], r[9], r[10]),
+            "INSERT INTO entries_v2 (id, position, kind, query, vector_set, result, note, created, updated, deleted) "
+            "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            (
+                r["id"],
+                r["position"],
+                r["kind"],
+                _dump(query),
+                r["vector_set"],
+                _dump(result),
+                r["note"],
+                r["created"],
+                r["updated"],
+                r["deleted"],
+            ),
         )
     con.execute("DROP TABLE entries")
     con.execute("ALTER TABLE entries_v2 RENAME TO entries")
@@ -270,6 +283,7 @@ class Notebook:
                 con.execute("PRAGMA journal_mode=WAL")
                 con.execute("PRAGMA synchronous=FULL")
             con.execute("PRAGMA busy_timeout=30000")
+            con.row_factory = sqlite3.Row
             nb = cls(p, con)
             if not readonly:
                 nb._migrate(new=not exists)
@@ -278,45 +292,45 @@ class Notebook:
         return nb
 
     def _migrate(self, new: bool) -> None:
-        def step() -> None:
-            version = self.con.execute("PRAGMA user_version").fetchone()[0]
+        with self.transaction() as con:
+            version = con.execute("PRAGMA user_version").fetchone()[0]
             if new and version == 0:
-                self.con.execute(f"PRAGMA application_id={APPLICATION_ID}")
+                con.execute(f"PRAGMA application_id={APPLICATION_ID}")
             for v in range(version + 1, SCHEMA_VERSION + 1):
                 for stmt in MIGRATIONS[v]:
                     if isinstance(stmt, str):
-                        self.con.execute(stmt)
+                        con.execute(stmt)
                     else:
-                        stmt(self.con)
-                self.con.execute(f"PRAGMA user_version={v}")
+                        stmt(con)
+                con.execute(f"PRAGMA user_version={v}")
 
-        self._write(step)
+    @contextlib.contextmanager
+    def transaction(self) -> Iterator[sqlite3.Connection]:
+        """One IMMEDIATE transaction around the ``with`` block, committed (on disk, ``synchronous=FULL``) when the
+        block ends and rolled back if it raises. Waits while another writer holds the lock beyond the busy
+        timeout; a database error inside becomes a one-line "nothing was saved"."""
+        self._begin()
+        try:
+            yield self.con
+        except sqlite3.OperationalError as exc:
+            self.con.execute("ROLLBACK")
+            raise WordkinError(f"{self.path}: nothing was saved ({exc}); the notebook is unchanged") from None
+        except BaseException:
+            self.con.execute("ROLLBACK")
+            raise
+        self.con.execute("COMMIT")
 
-    def _write(self, fn: Any) -> Any:
-        """Run ``fn`` in one IMMEDIATE transaction, committed before returning; retries while another writer holds
-        the lock beyond the busy timeout."""
+    def _begin(self) -> None:
         delay = 0.05
-        for attempt in range(40):
+        for _ in range(40):
             try:
                 self.con.execute("BEGIN IMMEDIATE")
+                return
             except sqlite3.OperationalError as exc:
-                if "locked" in str(exc) or "busy" in str(exc):
-                    time.sleep(delay)
-                    delay = min(1.0, delay * 2)
-                    continue
-                raise
-            try:
-                out = fn()
-                self.con.execute("COMMIT")
-                return out
-            except sqlite3.OperationalError as exc:
-                self.con.execute("ROLLBACK")
-                raise WordkinError(f"{self.path}: nothing was saved ({exc}); the notebook is unchanged") from None
-            except BaseException:
-                self.con.execute("ROLLBACK")
-                raise
-            finally:
-                _ = attempt
+                if "locked" not in str(exc) and "busy" not in str(exc):
+                    raise
+                time.sleep(delay)
+                delay = min(1.0, delay * 2)
         raise WordkinError(f"{self.path}: the notebook stayed locked by another writer; nothing was saved")
 
     def close(self) -> None:
@@ -346,33 +360,33 @@ class Notebook:
             raise WordkinError(f"{self.path}: no entry {entry_id}")
         return self._entry(r)
 
-    def _entry(self, r: tuple[Any, ...]) -> Entry:
+    def _entry(self, r: sqlite3.Row) -> Entry:
         try:
-            query = query_from_json(json.loads(r[3]))
+            query = query_from_json(json.loads(r["query"]))
             return Entry(
-                id=r[0],
-                position=r[1],
+                id=r["id"],
+                position=r["position"],
                 query=query,
-                result=result_from_json(query, json.loads(r[5])),
-                vector_set=json.loads(r[4]),
-                note=r[6],
-                created=r[7],
-                updated=r[8],
+                result=result_from_json(query, json.loads(r["result"])),
+                vector_set=json.loads(r["vector_set"]),
+                note=r["note"],
+                created=r["created"],
+                updated=r["updated"],
             )
         except (KeyError, TypeError, ValueError) as exc:
-            raise UnreadableFileError(str(self.path), f"entry {r[0]} is damaged ({exc}); left untouched") from None
+            raise UnreadableFileError(str(self.path), f"entry {r['id']} is damaged ({exc}); left untouched") from None
 
     # -- writing ---------------------------------------------------------------------------------------
 
     def add(self, e: Entry, *, keep_position: bool = False, keep_id: bool = False) -> int:
         """Append ``e`` (or, importing, keep its position and id); returns its id once committed to disk."""
 
-        def step() -> int:
+        with self.transaction() as con:
             pos = e.position
             if not keep_position:
-                last = self.con.execute("SELECT MAX(position) FROM entries").fetchone()[0]
+                last = con.execute("SELECT MAX(position) FROM entries").fetchone()[0]
                 pos = (last or 0.0) + 1.0
-            cur = self.con.execute(
+            cur = con.execute(
                 "INSERT INTO entries (id, position, kind, query, vector_set, result, note, created, updated) "
                 "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
                 (
@@ -387,44 +401,34 @@ class Notebook:
                     e.updated or e.created,
                 ),
             )
-            return int(cur.lastrowid or 0)
-
-        e.id = self._write(step)
+        e.id = int(cur.lastrowid or 0)
         return e.id
 
     def set_note(self, entry_id: int, note: str) -> None:
-        self._write(
-            lambda: self.con.execute("UPDATE entries SET note = ?, updated = ? WHERE id = ?", (note, now(), entry_id))
-        )
+        with self.transaction() as con:
+            con.execute("UPDATE entries SET note = ?, updated = ? WHERE id = ?", (note, now(), entry_id))
 
     def delete(self, entry_id: int) -> None:
         """Soft delete: ``undelete`` brings it back (the console's undo)."""
-        self._write(
-            lambda: self.con.execute("UPDATE entries SET deleted = 1, updated = ? WHERE id = ?", (now(), entry_id))
-        )
+        with self.transaction() as con:
+            con.execute("UPDATE entries SET deleted = 1, updated = ? WHERE id = ?", (now(), entry_id))
 
     def undelete(self, entry_id: int) -> None:
-        self._write(
-            lambda: self.con.execute("UPDATE entries SET deleted = 0, updated = ? WHERE id = ?", (now(), entry_id))
-        )
+        with self.transaction() as con:
+            con.execute("UPDATE entries SET deleted = 0, updated = ? WHERE id = ?", (now(), entry_id))
 
     def move(self, entry_id: int, offset: int) -> None:
         """Move an entry ``offset`` places up (negative) or down (positive) in the order."""
 
-        def step() -> None:
-            ids = [
-                r[0]
-                for r in self.con.execute("SELECT id FROM entries WHERE deleted = 0 ORDER BY position, id").fetchall()
-            ]
+        with self.transaction() as con:
+            ids = [r["id"] for r in con.execute("SELECT id FROM entries WHERE deleted = 0 ORDER BY position, id")]
             if entry_id not in ids:
                 return
             i = ids.index(entry_id)
             j = max(0, min(len(ids) - 1, i + offset))
             ids.insert(j, ids.pop(i))
             for pos, eid in enumerate(ids, 1):
-                self.con.execute("UPDATE entries SET position = ? WHERE id = ?", (float(pos), eid))
-
-        self._write(step)
+                con.execute("UPDATE entries SET position = ? WHERE id = ?", (float(pos), eid))
 
 
 def _dump(obj: Any) -> str:

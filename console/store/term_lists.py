@@ -5,7 +5,7 @@ not) and **aside** (looked at, not yet decided: it stops being suggested and wai
 decision records the note, the score and support the word had in the last suggestion shown for the list, the
 vector set (fingerprint) that suggestion came from, the time and the user. Decisions are appended, never edited:
 the current state of a word is its latest decision that was not undone, and undo marks the latest one undone.
-Every change is one committed transaction (the notebook's ``_write``) before it is reported.
+Every change is one committed transaction (``Notebook.transaction``) before it is reported.
 """
 
 from __future__ import annotations
@@ -13,7 +13,9 @@ from __future__ import annotations
 import getpass
 import json
 import os
+import sqlite3
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 from wordkin.console.store.notebook import Notebook, now
@@ -161,41 +163,51 @@ def _check_name(name: str) -> str:
     return name
 
 
-def _row(nb: Notebook, name: str) -> tuple[Any, ...]:
-    r = nb.con.execute(
-        "SELECT id, name, seeds, vector_set, created, updated FROM term_lists WHERE name = ?", (name,)
-    ).fetchone()
+LIST_COLUMNS = "id, name, seeds, vector_set, created, updated"
+DECISION_COLUMNS = "word, state, note, score, support, fingerprint, decided, by, undone"
+
+
+def _row(con: sqlite3.Connection, path: Path, name: str) -> sqlite3.Row:
+    r: sqlite3.Row | None = con.execute(f"SELECT {LIST_COLUMNS} FROM term_lists WHERE name = ?", (name,)).fetchone()
     if r is None:
-        known = [x for (x,) in nb.con.execute("SELECT name FROM term_lists ORDER BY name").fetchall()]
+        known = [x["name"] for x in con.execute("SELECT name FROM term_lists ORDER BY name")]
         hint = f"; the lists are: {', '.join(known)}" if known else "; it has none yet (`wordkin terms new`)"
-        raise UsageError(f"{nb.path} has no term list named {name!r}{hint}")
-    return tuple(r)
+        raise UsageError(f"{path} has no term list named {name!r}{hint}")
+    return r
 
 
-def _load(nb: Notebook, r: tuple[Any, ...]) -> TermList:
-    hist = nb.con.execute(
-        "SELECT word, state, note, score, support, fingerprint, decided, by, undone FROM term_decisions "
-        "WHERE list_id = ? ORDER BY id",
-        (r[0],),
+def _decision(r: sqlite3.Row) -> Decision:
+    fields = {c: r[c] for c in DECISION_COLUMNS.split(", ")}
+    return Decision(**{**fields, "undone": bool(fields["undone"])})
+
+
+def _load(con: sqlite3.Connection, r: sqlite3.Row) -> TermList:
+    hist = con.execute(
+        f"SELECT {DECISION_COLUMNS} FROM term_decisions WHERE list_id = ? ORDER BY id", (r["id"],)
     ).fetchall()
     return TermList(
-        r[1],
-        tuple(json.loads(r[2])),
-        r[4],
-        r[5],
-        json.loads(r[3]),
-        tuple(Decision(h[0], h[1], h[2], h[3], h[4], h[5], h[6], h[7], bool(h[8])) for h in hist),
-        r[0],
+        r["name"],
+        tuple(json.loads(r["seeds"])),
+        r["created"],
+        r["updated"],
+        json.loads(r["vector_set"]),
+        tuple(_decision(h) for h in hist),
+        r["id"],
     )
 
 
+def _name_taken(con: sqlite3.Connection, path: Path, name: str) -> None:
+    if con.execute("SELECT 1 FROM term_lists WHERE name = ?", (name,)).fetchone():
+        raise UsageError(f"{path} already has a term list named {name!r}")
+
+
 def get_list(nb: Notebook, name: str) -> TermList:
-    return _load(nb, _row(nb, name))
+    return _load(nb.con, _row(nb.con, nb.path, name))
 
 
 def all_lists(nb: Notebook) -> list[TermList]:
-    rows = nb.con.execute("SELECT id, name, seeds, vector_set, created, updated FROM term_lists ORDER BY name")
-    return [_load(nb, tuple(r)) for r in rows.fetchall()]
+    rows = nb.con.execute(f"SELECT {LIST_COLUMNS} FROM term_lists ORDER BY name").fetchall()
+    return [_load(nb.con, r) for r in rows]
 
 
 def create_list(nb: Notebook, name: str, seeds: list[str], *, created: str | None = None) -> TermList:
@@ -205,46 +217,36 @@ def create_list(nb: Notebook, name: str, seeds: list[str], *, created: str | Non
     if not words:
         raise UsageError("a term list needs at least one seed word")
     when = created or now()
-
-    def step() -> None:
-        if nb.con.execute("SELECT 1 FROM term_lists WHERE name = ?", (name,)).fetchone():
-            raise UsageError(f"{nb.path} already has a term list named {name!r}")
-        nb.con.execute(
+    with nb.transaction() as con:
+        _name_taken(con, nb.path, name)
+        con.execute(
             "INSERT INTO term_lists (name, seeds, created, updated) VALUES (?, ?, ?, ?)",
             (name, json.dumps(words, ensure_ascii=False), when, when),
         )
-
-    nb._write(step)
     return get_list(nb, name)
 
 
 def rename_list(nb: Notebook, old: str, new: str) -> None:
     new = _check_name(new)
-
-    def step() -> None:
-        list_id = _row(nb, old)[0]
-        if new != old and nb.con.execute("SELECT 1 FROM term_lists WHERE name = ?", (new,)).fetchone():
-            raise UsageError(f"{nb.path} already has a term list named {new!r}")
-        nb.con.execute("UPDATE term_lists SET name = ?, updated = ? WHERE id = ?", (new, now(), list_id))
-
-    nb._write(step)
+    with nb.transaction() as con:
+        list_id = _row(con, nb.path, old)["id"]
+        if new != old:
+            _name_taken(con, nb.path, new)
+        con.execute("UPDATE term_lists SET name = ?, updated = ? WHERE id = ?", (new, now(), list_id))
 
 
 def record_shown(nb: Notebook, result: TermsResult, vector_set: dict[str, Any]) -> None:
     """Remember the candidates just shown for the list (the score and support a decision will record)."""
-
-    def step() -> None:
-        list_id = _row(nb, result.query.name)[0]
-        nb.con.execute("DELETE FROM term_shown WHERE list_id = ?", (list_id,))
-        nb.con.executemany(
+    with nb.transaction() as con:
+        list_id = _row(con, nb.path, result.query.name)["id"]
+        con.execute("DELETE FROM term_shown WHERE list_id = ?", (list_id,))
+        con.executemany(
             "INSERT INTO term_shown (list_id, word, score, support) VALUES (?, ?, ?, ?)",
             [(list_id, c.word, c.score, c.support) for c in result.rows],
         )
-        nb.con.execute(
+        con.execute(
             "UPDATE term_lists SET vector_set = ? WHERE id = ?", (json.dumps(vector_set, ensure_ascii=False), list_id)
         )
-
-    nb._write(step)
 
 
 @dataclass(frozen=True)
@@ -272,13 +274,13 @@ def decide(nb: Notebook, name: str, words: list[str], state: str, *, note: str =
         raise UsageError(f"a decision is one of {', '.join(STATES)}, not {state!r}")
     who = user() if by is None else by
 
-    def step() -> Outcome:
-        r = _row(nb, name)
-        tl = _load(nb, r)
+    with nb.transaction() as con:
+        r = _row(con, nb.path, name)
+        tl = _load(con, r)
         current = tl.current
         shown = {
-            w: (s, sup)
-            for w, s, sup in nb.con.execute("SELECT word, score, support FROM term_shown WHERE list_id = ?", (r[0],))
+            x["word"]: (x["score"], x["support"])
+            for x in con.execute("SELECT word, score, support FROM term_shown WHERE list_id = ?", (r["id"],))
         }
         fingerprint = str(tl.vector_set.get("fingerprint", ""))
         changed, already, seeds = [], [], []
@@ -291,47 +293,38 @@ def decide(nb: Notebook, name: str, words: list[str], state: str, *, note: str =
                 already.append(w)
                 continue
             score, support = shown.get(w, (None, None))
-            nb.con.execute(
+            con.execute(
                 "INSERT INTO term_decisions (list_id, word, state, note, score, support, fingerprint, decided, by) "
                 "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)",
-                (r[0], w, state, note, score, support, fingerprint, when, who),
+                (r["id"], w, state, note, score, support, fingerprint, when, who),
             )
             changed.append(w)
         if changed:
-            nb.con.execute("UPDATE term_lists SET updated = ? WHERE id = ?", (when, r[0]))
-        return Outcome(tuple(changed), tuple(already), tuple(seeds))
-
-    out: Outcome = nb._write(step)
-    return out
+            con.execute("UPDATE term_lists SET updated = ? WHERE id = ?", (when, r["id"]))
+    return Outcome(tuple(changed), tuple(already), tuple(seeds))
 
 
 def undo(nb: Notebook, name: str) -> Decision | None:
     """Undo the list's latest decision that is not undone yet; returns it (None when there is none)."""
-
-    def step() -> Decision | None:
-        list_id = _row(nb, name)[0]
-        r = nb.con.execute(
-            "SELECT id, word, state, note, score, support, fingerprint, decided, by FROM term_decisions "
-            "WHERE list_id = ? AND undone = 0 ORDER BY id DESC LIMIT 1",
+    with nb.transaction() as con:
+        list_id = _row(con, nb.path, name)["id"]
+        r = con.execute(
+            f"SELECT id, {DECISION_COLUMNS} FROM term_decisions WHERE list_id = ? AND undone = 0 "
+            "ORDER BY id DESC LIMIT 1",
             (list_id,),
         ).fetchone()
         if r is None:
             return None
-        nb.con.execute("UPDATE term_decisions SET undone = 1 WHERE id = ?", (r[0],))
-        nb.con.execute("UPDATE term_lists SET updated = ? WHERE id = ?", (now(), list_id))
-        return Decision(*r[1:])
-
-    out: Decision | None = nb._write(step)
-    return out
+        con.execute("UPDATE term_decisions SET undone = 1 WHERE id = ?", (r["id"],))
+        con.execute("UPDATE term_lists SET updated = ? WHERE id = ?", (now(), list_id))
+    return _decision(r)
 
 
 def import_list(nb: Notebook, tl: TermList) -> None:
     """Add a list read from a JSON export, with its whole history, times and users as they were."""
-
-    def step() -> None:
-        if nb.con.execute("SELECT 1 FROM term_lists WHERE name = ?", (tl.name,)).fetchone():
-            raise UsageError(f"{nb.path} already has a term list named {tl.name!r}")
-        cur = nb.con.execute(
+    with nb.transaction() as con:
+        _name_taken(con, nb.path, tl.name)
+        cur = con.execute(
             "INSERT INTO term_lists (name, seeds, vector_set, created, updated) VALUES (?, ?, ?, ?, ?)",
             (
                 tl.name,
@@ -341,7 +334,7 @@ def import_list(nb: Notebook, tl: TermList) -> None:
                 tl.updated,
             ),
         )
-        nb.con.executemany(
+        con.executemany(
             "INSERT INTO term_decisions (list_id, word, state, note, score, support, fingerprint, decided, by, undone)"
             " VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
             [
@@ -349,5 +342,3 @@ def import_list(nb: Notebook, tl: TermList) -> None:
                 for d in tl.history
             ],
         )
-
-    nb._write(step)
