@@ -124,8 +124,41 @@ def vocabulary(vs: VectorSet, top: int, case_fold: bool) -> tuple[dict[str, int]
     return ok, fid
 
 
-def read_analogies(path: str | Path) -> list[tuple[str, list[tuple[int, list[str]]]]]:
-    """Sections of ``(line number, [a, b, c, d])``."""
+@dataclass(frozen=True)
+class AnalogyFile:
+    """An analogy file as read: its name and its sections of ``(line number, (a, b, c, d))``."""
+
+    source: str
+    sections: tuple[tuple[str, tuple[tuple[int, tuple[str, ...]], ...]], ...]
+
+    def covered_by(self, words: set[str]) -> AnalogyFile:
+        """Only the questions whose four words are all in ``words`` (every section kept, perhaps empty)."""
+        return AnalogyFile(
+            self.source,
+            tuple((name, tuple(q for q in qs if all(w in words for w in q[1]))) for name, qs in self.sections),
+        )
+
+    @property
+    def questions(self) -> int:
+        return sum(len(qs) for _, qs in self.sections)
+
+
+@dataclass(frozen=True)
+class PairFile:
+    """A word-pair file as read: ``(line number, a, b, human score)`` per usable line, and the lines skipped."""
+
+    source: str
+    pairs: tuple[tuple[int, str, str, float], ...]
+    skipped: int = 0
+    first_skipped: int | None = None
+
+    def covered_by(self, words: set[str]) -> PairFile:
+        """Only the pairs whose two words are both in ``words`` (nothing skipped: those lines were read)."""
+        return PairFile(self.source, tuple(p for p in self.pairs if p[1] in words and p[2] in words))
+
+
+def read_analogies(path: str | Path) -> AnalogyFile:
+    """Sections of ``(line number, (a, b, c, d))``."""
     p = Path(path)
     try:
         text = p.read_bytes().decode("utf-8", "replace")
@@ -145,12 +178,12 @@ def read_analogies(path: str | Path) -> list[tuple[str, list[tuple[int, list[str
         if not sections:
             sections.append(("(no section)", []))
         sections[-1][1].append((no, parts))
-    return sections
+    return AnalogyFile(str(path), tuple((name, tuple((no, tuple(q)) for no, q in qs)) for name, qs in sections))
 
 
 def score_analogies(
     vs: VectorSet,
-    path: str | Path,
+    questions: AnalogyFile,
     *,
     method: str = "add",
     top: int = 300_000,
@@ -163,18 +196,18 @@ def score_analogies(
     _check_top(top)
     if method not in ("add", "mul"):
         raise UsageError(f"--method is add or mul, not {method!r}")
-    sections = read_analogies(path)
+    sections = questions.sections
     ok, fid = vocabulary(vs, top, case_fold)
     lim = len(fid)
     cand = np.asarray(vs.unit[:lim], dtype=np.float32)
     zero = vs.zero_rows[vs.zero_rows < lim]
-    total_q = sum(len(q) for _, q in sections)
+    total_q = questions.questions
     done = 0
     out: list[Section] = []
-    for name, questions in sections:
+    for name, section in sections:
         idx = []
-        for _no, words in questions:
-            keys = [w.upper() for w in words] if case_fold else words
+        for _no, words in section:
+            keys = [w.upper() for w in words] if case_fold else list(words)
             rows = [ok.get(k) for k in keys]
             if None not in rows:
                 idx.append(rows)
@@ -185,11 +218,11 @@ def score_analogies(
             correct += _answer_chunk(cand, fid, zero, q[s : s + CHUNK], method, epsilon)
             if progress is not None:
                 progress(done + min(s + CHUNK, len(q)), total_q, f"scoring {name}")
-        done += len(questions)
-        out.append(Section(name, len(questions), len(q), correct))
+        done += len(section)
+        out.append(Section(name, len(section), len(q), correct))
     if progress is not None:
         progress(total_q, total_q, "scored")
-    return AnalogyScore(str(path), method, top, case_fold, tuple(out), time.perf_counter() - t0)
+    return AnalogyScore(questions.source, method, top, case_fold, tuple(out), time.perf_counter() - t0)
 
 
 def _answer_chunk(cand: np.ndarray, fid: np.ndarray, zero: np.ndarray, q: np.ndarray, method: str, eps: float) -> int:
@@ -217,11 +250,11 @@ def _answer_chunk(cand: np.ndarray, fid: np.ndarray, zero: np.ndarray, q: np.nda
     return int(np.count_nonzero(fid[pred] == fid[d]))
 
 
-def read_pairs(path: str | Path) -> tuple[list[tuple[int, str, str, float]], int, int | None]:
-    """``(pairs, skipped lines, first skipped line)``. Fields are separated by runs of tabs (the RG-65 file as
-    commonly distributed has doubled tabs) or, without a tab, by spaces. A line that still has the wrong number of
-    fields, or a score that is not a finite number, is skipped and counted; a file with no usable line at all is an
-    error naming its first bad line."""
+def read_pairs(path: str | Path) -> PairFile:
+    """The usable pairs with the count and first number of the skipped lines. Fields are separated by runs of tabs
+    (the RG-65 file as commonly distributed has doubled tabs) or, without a tab, by spaces. A line that still has
+    the wrong number of fields, or a score that is not a finite number, is skipped and counted; a file with no
+    usable line at all is an error naming its first bad line."""
     p = Path(path)
     try:
         text = p.read_bytes().decode("utf-8", "replace")
@@ -253,12 +286,12 @@ def read_pairs(path: str | Path) -> tuple[list[tuple[int, str, str, float]], int
         out.append((no, parts[0], parts[1], score))
     if not out and first_bad is not None:
         raise UnreadableFileError(str(p), first_bad[1] + " (and no line of the file is usable)", line=first_bad[0])
-    return out, skipped, first_bad[0] if first_bad else None
+    return PairFile(str(path), tuple(out), skipped, first_bad[0] if first_bad else None)
 
 
-def score_pairs(vs: VectorSet, path: str | Path, *, top: int = 300_000, case_fold: bool = False) -> PairScore:
+def score_pairs(vs: VectorSet, data: PairFile, *, top: int = 300_000, case_fold: bool = False) -> PairScore:
     _check_top(top)
-    pairs, skipped, first_skipped = read_pairs(path)
+    pairs = data.pairs
     ok, _ = vocabulary(vs, top, case_fold)
     gold: list[float] = []
     model: list[float] = []
@@ -280,4 +313,4 @@ def score_pairs(vs: VectorSet, path: str | Path, *, top: int = 300_000, case_fol
 
         rho = float(stats.spearmanr(gold, model).statistic)
         r = float(stats.pearsonr(gold, model).statistic)
-    return PairScore(str(path), len(pairs), len(gold), rho, r, tuple(details), skipped, first_skipped)
+    return PairScore(data.source, len(pairs), len(gold), rho, r, tuple(details), data.skipped, data.first_skipped)

@@ -9,7 +9,7 @@ import sys
 import pytest
 
 from wordkin.demo_vectors import analogies_path, demo_path, pairs_path
-from wordkin.index.scoring import score_analogies, score_pairs
+from wordkin.index.scoring import read_analogies, read_pairs, score_analogies, score_pairs
 from wordkin.index.vectors import open_vectors
 
 from .conftest import ROOT, neighbours, run_cli
@@ -31,7 +31,7 @@ def test_demo_file_limits(demo):
 
 
 def test_analogy_accuracy(demo):
-    s = score_analogies(demo, analogies_path())
+    s = score_analogies(demo, read_analogies(analogies_path()))
     assert s.answered == s.total == 1600
     assert s.accuracy >= 0.70
     assert len(s.sections) >= 8
@@ -40,7 +40,7 @@ def test_analogy_accuracy(demo):
 
 
 def test_pairs_score_is_positive(demo):
-    p = score_pairs(demo, pairs_path())
+    p = score_pairs(demo, read_pairs(pairs_path()))
     assert p.used == p.pairs and p.spearman > 0.5
 
 
@@ -159,5 +159,5 @@ def test_regeneration_reproduces_the_set(tmp_path, demo):
     with gzip.open(tmp_path / "brackwater.vec.gz", "rt") as f:
         words = [line.split(" ", 1)[0] for line in f][1:]
     assert words == demo.words
-    again = score_analogies(open_vectors(tmp_path / "brackwater.vec.gz"), analogies_path())
-    assert abs(again.accuracy - score_analogies(demo, analogies_path()).accuracy) <= 0.05
+    again = score_analogies(open_vectors(tmp_path / "brackwater.vec.gz"), read_analogies(analogies_path()))
+    assert abs(again.accuracy - score_analogies(demo, read_analogies(analogies_path())).accuracy) <= 0.05

@@ -9,7 +9,7 @@ import pytest
 from gensim.models import KeyedVectors
 
 from wordkin.index.errors import UnknownWordError, UsageError
-from wordkin.index.scoring import score_analogies, score_pairs
+from wordkin.index.scoring import read_analogies, read_pairs, score_analogies, score_pairs
 from wordkin.index.vectors import from_arrays, open_vectors
 
 from .conftest import calc, cli_json, gensim_data, run_cli, similarity
@@ -68,7 +68,7 @@ def test_score_analogies_equals_gensim(lee):
     ft = gensim_data("lee_fasttext.vec")
     kv2 = KeyedVectors.load_word2vec_format(str(ft))
     ref = kv2.evaluate_word_analogies(str(qw), case_insensitive=True)[1][-1]
-    mine = score_analogies(open_vectors(ft), qw, case_fold=True)
+    mine = score_analogies(open_vectors(ft), read_analogies(qw), case_fold=True)
     assert (mine.answered, mine.correct) == (len(ref["correct"]) + len(ref["incorrect"]), len(ref["correct"]))
 
 
@@ -81,7 +81,7 @@ def test_score_pairs_equals_gensim(lee, name, vecs):
         kv = KeyedVectors.load_word2vec_format(str(gensim_data(vecs)))
         vs = open_vectors(gensim_data(vecs))
     pearson, spearman, oov_pct = kv.evaluate_word_pairs(str(gensim_data(name)), case_insensitive=True)
-    got = score_pairs(vs, gensim_data(name), case_fold=True)
+    got = score_pairs(vs, read_pairs(gensim_data(name)), case_fold=True)
     assert 100 * (got.pairs - got.used) / got.pairs == pytest.approx(oov_pct)
     theirs = [
         float(

@@ -13,21 +13,21 @@ from wordkin.console.cli.registry import Command, register
 def cmd_score(args: argparse.Namespace) -> int:
     from wordkin.console.cli.progress_bar import stderr_progress
     from wordkin.console.formats.text_tables import score_text
-    from wordkin.index.scoring import score_analogies, score_pairs
+    from wordkin.index.scoring import read_analogies, read_pairs, score_analogies, score_pairs
 
     vs = open_set(args)
     if args.analogies:
         with stderr_progress() as report:
             res: Any = score_analogies(
                 vs,
-                args.analogies,
+                read_analogies(args.analogies),
                 method=args.method,
                 top=args.top,
                 case_fold=args.case_fold,
                 progress=report,
             )
     else:
-        res = score_pairs(vs, args.pairs, top=args.top, case_fold=args.case_fold)
+        res = score_pairs(vs, read_pairs(args.pairs), top=args.top, case_fold=args.case_fold)
     emit_json(res.to_json()) if args.json else sys.stdout.write(score_text(res))
     return 0
 

@@ -285,11 +285,11 @@ def hubness(
 def _benchmarks(vs: Any, pairs: tuple[str, ...], analogies: tuple[str, ...]) -> list[dict[str, Any]]:
     from pathlib import Path
 
-    from wordkin.index.scoring import score_analogies, score_pairs
+    from wordkin.index.scoring import read_analogies, read_pairs, score_analogies, score_pairs
 
     out: list[dict[str, Any]] = []
-    results: list[tuple[str, Any]] = [(p, score_pairs(vs, p)) for p in pairs]
-    results += [(a, score_analogies(vs, a)) for a in analogies]
+    results: list[tuple[str, Any]] = [(p, score_pairs(vs, read_pairs(p))) for p in pairs]
+    results += [(a, score_analogies(vs, read_analogies(a))) for a in analogies]
     for path, res in results:
         d = res.to_json()
         if d["kind"] == "pairs":

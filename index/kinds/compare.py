@@ -14,7 +14,6 @@ changed words and benchmark deltas.
 
 from __future__ import annotations
 
-import tempfile
 import time
 from dataclasses import dataclass
 from pathlib import Path
@@ -377,53 +376,42 @@ def check_dims(old: VectorSet, new: VectorSet) -> None:
 
 
 def _benchmark_deltas(old: VectorSet, new: VectorSet, pairs: tuple[str, ...], analogies: tuple[str, ...]) -> list[Any]:
-    """Each file scored on both sets over the questions both cover (a filtered copy of the file)."""
+    """Each file scored on both sets over the questions both cover."""
     from wordkin.index.scoring import read_analogies, read_pairs, score_analogies, score_pairs
 
     out: list[dict[str, Any]] = []
     both = set(old.words) & set(new.words)
-    with tempfile.TemporaryDirectory(prefix="wordkin-compare-") as tmp:
-        for p in pairs:
-            kept = [f"{a}\t{b}\t{s!r}" for _n, a, b, s in read_pairs(p)[0] if a in both and b in both]
-            f = Path(tmp) / "pairs.tsv"
-            f.write_text("\n".join(kept) + "\n", encoding="utf-8")
-            o, n = score_pairs(old, f), score_pairs(new, f)
-            delta = None if o.spearman is None or n.spearman is None else n.spearman - o.spearman
-            out.append(
-                {
-                    "name": Path(p).name,
-                    "kind": "pairs",
-                    "covered": len(kept),
-                    "old": o.spearman,
-                    "new": n.spearman,
-                    "delta": delta,
-                    "summary": f"Spearman {_f(o.spearman)} -> {_f(n.spearman)} on {len(kept)} pairs both cover",
-                }
-            )
-        for a in analogies:
-            lines = []
-            count = 0
-            for name, qs in read_analogies(a):
-                lines.append(f": {name}")
-                for _n, q in qs:
-                    if all(w in both for w in q):
-                        lines.append(" ".join(q))
-                        count += 1
-            f = Path(tmp) / "analogies.txt"
-            f.write_text("\n".join(lines) + "\n", encoding="utf-8")
-            o2, n2 = score_analogies(old, f), score_analogies(new, f)
-            delta = None if o2.accuracy is None or n2.accuracy is None else n2.accuracy - o2.accuracy
-            out.append(
-                {
-                    "name": Path(a).name,
-                    "kind": "analogies",
-                    "covered": count,
-                    "old": o2.accuracy,
-                    "new": n2.accuracy,
-                    "delta": delta,
-                    "summary": f"accuracy {_f(o2.accuracy)} -> {_f(n2.accuracy)} on {count} questions both cover",
-                }
-            )
+    for p in pairs:
+        kept = read_pairs(p).covered_by(both)
+        o, n = score_pairs(old, kept), score_pairs(new, kept)
+        delta = None if o.spearman is None or n.spearman is None else n.spearman - o.spearman
+        out.append(
+            {
+                "name": Path(p).name,
+                "kind": "pairs",
+                "covered": len(kept.pairs),
+                "old": o.spearman,
+                "new": n.spearman,
+                "delta": delta,
+                "summary": f"Spearman {_f(o.spearman)} -> {_f(n.spearman)} on {len(kept.pairs)} pairs both cover",
+            }
+        )
+    for a in analogies:
+        questions = read_analogies(a).covered_by(both)
+        o2, n2 = score_analogies(old, questions), score_analogies(new, questions)
+        delta = None if o2.accuracy is None or n2.accuracy is None else n2.accuracy - o2.accuracy
+        count = questions.questions
+        out.append(
+            {
+                "name": Path(a).name,
+                "kind": "analogies",
+                "covered": count,
+                "old": o2.accuracy,
+                "new": n2.accuracy,
+                "delta": delta,
+                "summary": f"accuracy {_f(o2.accuracy)} -> {_f(n2.accuracy)} on {count} questions both cover",
+            }
+        )
     return out
 
 

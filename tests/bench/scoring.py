@@ -13,14 +13,14 @@ import time
 def main() -> None:
     from gensim.models import KeyedVectors
 
-    from wordkin.index.scoring import score_analogies
+    from wordkin.index.scoring import read_analogies, score_analogies
     from wordkin.index.vectors import open_vectors
 
     vs = open_vectors(sys.argv[1])
     kv = KeyedVectors.load(sys.argv[2], mmap="r")
     kv.fill_norms()
     t0 = time.perf_counter()
-    ours = score_analogies(vs, sys.argv[3], top=300_000)
+    ours = score_analogies(vs, read_analogies(sys.argv[3]), top=300_000)
     t_ours = time.perf_counter() - t0
     t0 = time.perf_counter()
     _, sections = kv.evaluate_word_analogies(sys.argv[3], restrict_vocab=300_000, case_insensitive=False)
